@@ -1,0 +1,7 @@
+//! Integration tests: the real router in-process over a fresh, migrated
+//! SQLite file per test (`#[sqlx::test]`), and smoke tests that start the
+//! real binary and talk to it over HTTP.
+
+mod foundation;
+mod helpers;
+mod smoke;
