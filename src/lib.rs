@@ -13,6 +13,7 @@
 
 pub mod config;
 pub mod demo;
+pub mod metrology;
 pub mod store;
 pub mod web;
 

@@ -1,0 +1,7 @@
+//! The numerical core: pure functions of published standards, with no I/O,
+//! no async and no web or database types (CI checks this).
+//!
+//! * [`thermo`]: reference functions and tolerance classes of the sensors a
+//!   temperature laboratory calibrates.
+
+pub mod thermo;
