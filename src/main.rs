@@ -1,5 +1,8 @@
 //! The `juncture` command: serve the web application, load the demo lab,
-//! and administer the laboratory from a shell.
+//! convert between temperature and sensor signal, and administer the
+//! laboratory from a shell.
+
+mod convert;
 
 use std::net::SocketAddr;
 use std::path::PathBuf;
@@ -51,6 +54,8 @@ enum Command {
         #[command(flatten)]
         db: DatabaseArg,
     },
+    /// Reference conversions: thermocouples, PRTs, ITS-90, tolerance classes.
+    Convert(convert::ConvertArgs),
     /// Show or change the laboratory's identity and settings.
     Lab {
         #[command(subcommand)]
@@ -154,6 +159,7 @@ async fn run(cli: Cli) -> Result<(), String> {
             pool.close().await;
             Ok(())
         }
+        Command::Convert(args) => convert::run(args),
         Command::Lab { action } => lab(action).await,
     }
 }

@@ -4,4 +4,5 @@
 
 mod foundation;
 mod helpers;
+mod reference;
 mod smoke;

@@ -1,6 +1,8 @@
 //! Browser pages, rendered on the server with askama. They work without
 //! JavaScript; errors render as a readable page.
 
+pub mod convert;
+
 use askama::Template;
 use axum::Router;
 use axum::extract::{OriginalUri, Path, State};
@@ -17,6 +19,7 @@ pub fn routes() -> Router<AppState> {
     Router::new()
         .route("/", get(home))
         .route("/problems/{slug}", get(problem_type))
+        .route("/convert", get(convert::page))
 }
 
 /// An error shown to a person: the same [`AppError`], rendered as a page.
