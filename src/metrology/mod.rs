@@ -3,5 +3,8 @@
 //!
 //! * [`thermo`]: reference functions and tolerance classes of the sensors a
 //!   temperature laboratory calibrates.
+//! * [`stats`]: weighted least squares, GUM budgets, coverage factors,
+//!   Monte Carlo propagation, reporting rules and decision rules.
 
+pub mod stats;
 pub mod thermo;
