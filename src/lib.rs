@@ -11,6 +11,9 @@
 //! * [`config`] gathers the run-time settings; [`demo`] loads the invented
 //!   demonstration laboratory.
 
+// The OpenAPI document is one large `serde_json::json!` literal.
+#![recursion_limit = "512"]
+
 pub mod config;
 pub mod demo;
 pub mod metrology;

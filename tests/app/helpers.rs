@@ -73,3 +73,15 @@ pub async fn get(app: &Router, uri: &str) -> Answer {
     )
     .await
 }
+
+/// `POST uri` with a JSON body.
+pub async fn post_json(app: &Router, uri: &str, body: &serde_json::Value) -> Answer {
+    send(
+        app,
+        Request::post(uri)
+            .header("content-type", "application/json")
+            .body(Body::from(body.to_string()))
+            .expect("valid request"),
+    )
+    .await
+}

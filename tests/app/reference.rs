@@ -283,6 +283,14 @@ async fn the_openapi_document_lists_every_reference_endpoint(pool: SqlitePool) {
         let probe = get(&app, path).await;
         assert_ne!(probe.status, StatusCode::NOT_FOUND, "{path}");
     }
+    for path in ["/api/v1/compute/fit", "/api/v1/compute/uncertainty"] {
+        assert!(
+            doc["paths"][path]["post"].is_object(),
+            "{path} undocumented"
+        );
+        let probe = crate::helpers::post_json(&app, path, &serde_json::json!({})).await;
+        assert_ne!(probe.status, StatusCode::NOT_FOUND, "{path}");
+    }
     // Every $ref resolves to a schema in components.
     let text = doc.to_string();
     for piece in text.split("\"$ref\":\"#/components/schemas/").skip(1) {

@@ -1,11 +1,12 @@
 //! The JSON API under `/api/v1`, plus `/healthz`.
 
+pub mod compute;
 pub mod health;
 pub mod openapi;
 pub mod reference;
 
 use axum::Router;
-use axum::routing::get;
+use axum::routing::{get, post};
 
 use super::AppState;
 
@@ -20,4 +21,9 @@ pub fn routes() -> Router<AppState> {
         .route("/api/v1/reference/prt", get(reference::get_prt))
         .route("/api/v1/reference/its90", get(reference::get_its90))
         .route("/api/v1/reference/tolerance", get(reference::get_tolerance))
+        .route("/api/v1/compute/fit", post(compute::post_fit))
+        .route(
+            "/api/v1/compute/uncertainty",
+            post(compute::post_uncertainty),
+        )
 }

@@ -31,6 +31,23 @@ fn problem_responses(ok_schema: &str, ok_description: &str) -> Value {
     })
 }
 
+fn body_responses(ok_schema: &str, ok_description: &str) -> Value {
+    json!({
+        "200": {"description": ok_description,
+                "content": {"application/json": {"schema": {"$ref": format!("#/components/schemas/{ok_schema}")}}}},
+        "400": {"description": "The body is not JSON of the expected shape (the detail quotes the parser).",
+                "content": {"application/problem+json": {"schema": {"$ref": "#/components/schemas/Problem"}}}},
+        "413": {"description": "The body is larger than the configured limit (stated in the detail).",
+                "content": {"application/problem+json": {"schema": {"$ref": "#/components/schemas/Problem"}}}},
+        "422": {"description": "A value is not acceptable; `errors` names the field, e.g. components[2].half_width.",
+                "content": {"application/problem+json": {"schema": {"$ref": "#/components/schemas/Problem"}}}}
+    })
+}
+
+fn numbers(description: &str) -> Value {
+    json!({"type": "array", "items": {"type": "number"}, "description": description})
+}
+
 fn build() -> Value {
     json!({
         "openapi": "3.1.0",
@@ -98,6 +115,20 @@ fn build() -> Value {
                 ],
                 "responses": problem_responses("Its90Answer", "The conversion.")
             }},
+            "/api/v1/compute/fit": {"post": {
+                "summary": "Weighted polynomial least squares (Householder QR on a centred, scaled variable, with iterative refinement)",
+                "description": "coefficients[i] multiplies x^powers[i] (x^i with intercept; without intercept coefficients[0] multiplies x). Unweighted fits and fits with weights scale the covariance by s²; fits with uncertainties use the unscaled covariance and report a chi-square check.",
+                "operationId": "fit",
+                "requestBody": {"required": true, "content": {"application/json": {"schema": {"$ref": "#/components/schemas/FitRequest"}}}},
+                "responses": body_responses("FitResponse", "The fit.")
+            }},
+            "/api/v1/compute/uncertainty": {"post": {
+                "summary": "GUM uncertainty budget (JCGM 100:2008) with optional Monte Carlo check (JCGM 101:2008) and conformity decision (ILAC-G8:09/2019)",
+                "description": "Additive model: the estimate is the sum of sensitivity × estimate. U is reported unrounded and, in `reported`, to two significant digits rounded up and never below the CMC (ILAC-P14).",
+                "operationId": "uncertainty",
+                "requestBody": {"required": true, "content": {"application/json": {"schema": {"$ref": "#/components/schemas/UncertaintyRequest"}}}},
+                "responses": body_responses("UncertaintyResponse", "The budget.")
+            }},
             "/api/v1/reference/tolerance": {"get": {
                 "summary": "Tolerance classes: IEC 60584-1, ASTM E230, IEC 60751",
                 "operationId": "tolerance",
@@ -149,6 +180,89 @@ fn build() -> Value {
                 "delta_w": number("SPRT: W - W_r from the deviation function."),
                 "r_ohm": number("SPRT: resistance, Ω."),
                 "sub_range": {"type": "string"}
+            }},
+            "FitRequest": {"type": "object", "required": ["x", "y", "degree"], "properties": {
+                "x": numbers("Independent variable, e.g. reference temperature in °C."),
+                "y": numbers("Dependent variable, e.g. deviation in °C."),
+                "degree": {"type": "integer", "minimum": 0, "maximum": 10},
+                "intercept": {"type": "boolean", "default": true},
+                "weights": {"type": ["array", "null"], "items": {"type": "number"}, "description": "Weights w_i > 0 (covariance scaled by s²)."},
+                "uncertainties": {"type": ["array", "null"], "items": {"type": "number"}, "description": "Standard uncertainties of y (w = 1/u², covariance unscaled)."},
+                "expanded_uncertainties": {"type": ["array", "null"], "items": {"type": "number"}, "description": "Residuals larger than these are flagged."},
+                "evaluate_at": {"type": ["array", "null"], "items": {"type": "number"}, "description": "x values at which to evaluate the fitted function and its standard uncertainty."}
+            }},
+            "FitResponse": {"type": "object", "properties": {
+                "coefficients": numbers("coefficients[i] multiplies x^powers[i]."),
+                "powers": {"type": "array", "items": {"type": "integer"}},
+                "standard_uncertainties": numbers("Standard uncertainties of the coefficients."),
+                "covariance": {"type": "array", "items": {"type": "array", "items": {"type": "number"}}},
+                "correlation": {"type": "array", "items": {"type": "array", "items": {"type": "number"}}},
+                "fitted": numbers("Fitted values."),
+                "residuals": numbers("y - fitted."),
+                "residual_std_dev": {"type": ["number", "null"]},
+                "dof": {"type": "integer"},
+                "r_squared": {"type": "number"},
+                "condition_number": {"type": "number"},
+                "covariance_scaled": {"type": "boolean"},
+                "chi_square": {"type": ["object", "null"]},
+                "flagged_residuals": {"type": "array", "items": {"type": "object"}},
+                "evaluations": {"type": "array", "items": {"type": "object", "properties": {
+                    "x": {"type": "number"}, "y": {"type": "number"},
+                    "standard_uncertainty": {"type": "number"}, "extrapolated": {"type": "boolean"}}}},
+                "warnings": {"type": "array", "items": {"type": "string"}}
+            }},
+            "UncertaintyRequest": {"type": "object", "required": ["components"], "properties": {
+                "components": {"type": "array", "items": {"type": "object", "required": ["name", "distribution"], "properties": {
+                    "name": {"type": "string"},
+                    "distribution": {"type": "string", "enum": ["normal", "rectangular", "triangular", "u_shaped", "type_a"]},
+                    "estimate": {"type": "number", "default": 0},
+                    "standard_uncertainty": {"type": "number"},
+                    "half_width": {"type": "number"},
+                    "expanded": {"type": "number"},
+                    "k": {"type": "number", "default": 2},
+                    "n": {"type": "integer", "description": "Readings of a type_a evaluation (ν = n - 1)."},
+                    "sensitivity": {"type": "number", "default": 1},
+                    "dof": {"type": ["number", "null"]}
+                }}},
+                "correlations": {"type": "array", "items": {"type": "object", "properties": {
+                    "i": {"type": "integer"}, "j": {"type": "integer"}, "r": {"type": "number"}}}},
+                "coverage_probability": {"type": "number", "default": 0.9545},
+                "cmc": {"type": ["number", "null"], "description": "The lab's CMC (expanded) at this point."},
+                "monte_carlo": {"type": ["object", "null"], "properties": {
+                    "trials": {"type": ["integer", "null"], "description": "null: adaptive procedure (JCGM 101 7.9)."},
+                    "seed": {"type": "integer", "default": 1},
+                    "significant_digits": {"type": "integer", "enum": [1, 2], "default": 2}}},
+                "decision": {"type": ["object", "null"], "properties": {
+                    "lower": {"type": "number"}, "upper": {"type": "number"},
+                    "rule": {"type": "string", "enum": ["simple", "guarded", "guarded_non_binary"]},
+                    "guard_band_factor": {"type": "number", "default": 1},
+                    "measured": {"type": "number"}}}
+            }},
+            "UncertaintyResponse": {"type": "object", "properties": {
+                "estimate": {"type": "number"},
+                "combined_standard_uncertainty": {"type": "number"},
+                "effective_dof": {"type": ["number", "null"], "description": "null when infinite."},
+                "coverage_probability": {"type": "number"},
+                "coverage_factor": {"type": "number"},
+                "expanded_uncertainty": {"type": "number"},
+                "components": {"type": "array", "items": {"type": "object", "properties": {
+                    "name": {"type": "string"}, "standard_uncertainty": {"type": "number"},
+                    "sensitivity": {"type": "number"}, "contribution": {"type": "number"},
+                    "variance_share": {"type": "number"}, "dof": {"type": ["number", "null"]}}}},
+                "correlation_share": {"type": "number"},
+                "reported": {"type": "object", "properties": {
+                    "estimate": {"type": "string"}, "expanded_uncertainty": {"type": "string"},
+                    "cmc_floor_applied": {"type": "boolean"}}},
+                "monte_carlo": {"type": ["object", "null"], "properties": {
+                    "estimate": {"type": "number"}, "standard_uncertainty": {"type": "number"},
+                    "shortest_interval": numbers("[low, high]"), "symmetric_interval": numbers("[low, high]"),
+                    "trials": {"type": "integer"}, "stabilized": {"type": ["boolean", "null"]},
+                    "gum_validated": {"type": "boolean"}, "d_low": {"type": "number"}, "d_high": {"type": "number"},
+                    "numerical_tolerance": {"type": "number"}, "seed": {"type": "integer"}}},
+                "decision": {"type": ["object", "null"], "properties": {
+                    "outcome": {"type": "string", "enum": ["pass", "conditional pass", "conditional fail", "fail"]},
+                    "statement": {"type": "string"}, "guard_band": {"type": "number"}, "measured": {"type": "number"},
+                    "acceptance_limits": {"type": "array", "items": {"type": ["number", "null"]}}}}
             }},
             "ToleranceAnswer": {"type": "object", "properties": {
                 "sensor": {"type": "string"}, "class": {"type": "string"},
