@@ -10,6 +10,8 @@ COPY .sqlx .sqlx
 COPY migrations migrations
 COPY templates templates
 COPY static static
+# The validation report embeds the published check values kept with the tests.
+COPY tests/data tests/data
 COPY src src
 RUN cargo build --release --locked --bin juncture
 

@@ -20,6 +20,9 @@ pub enum DemoError {
     Db(#[from] sqlx::Error),
 }
 
+/// Actor recorded in the audit trail for demo records.
+pub const DEMO_ACTOR: &str = "demo loader";
+
 /// Name of the invented demonstration laboratory.
 pub const DEMO_LAB_NAME: &str = "Larchmere Thermal Metrology (demonstration)";
 
@@ -48,11 +51,25 @@ pub fn demo_lab() -> LabSettings {
 /// [`DemoError::NotEmpty`] when a laboratory is already set up; any
 /// database error.
 pub async fn load(pool: &SqlitePool) -> Result<(), DemoError> {
-    let mut tx = pool.begin().await?;
+    let mut tx = store::begin_write(pool).await?;
     if let Some(existing) = store::lab::get(&mut tx).await? {
         return Err(DemoError::NotEmpty(existing.name));
     }
-    store::lab::put(&mut tx, &demo_lab()).await?;
+    let lab = demo_lab();
+    store::lab::put(&mut tx, &lab).await?;
+    let after = serde_json::to_value(&lab).unwrap_or_default();
+    store::audit::append(
+        &mut tx,
+        &store::audit::NewEvent {
+            actor: DEMO_ACTOR,
+            action: "create",
+            entity: "lab_settings",
+            entity_id: "1",
+            before: None,
+            after: Some(&after),
+        },
+    )
+    .await?;
     tx.commit().await?;
     Ok(())
 }

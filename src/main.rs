@@ -2,7 +2,9 @@
 //! convert between temperature and sensor signal, and administer the
 //! laboratory from a shell.
 
+mod admin;
 mod convert;
+mod validate;
 
 use std::net::SocketAddr;
 use std::path::PathBuf;
@@ -26,7 +28,7 @@ struct Cli {
 #[derive(Debug, Args)]
 struct DatabaseArg {
     /// SQLite database file (created when missing).
-    #[arg(long, env = "JUNCTURE_DATABASE", default_value = DEFAULT_DATABASE)]
+    #[arg(long, global = true, env = "JUNCTURE_DATABASE", default_value = DEFAULT_DATABASE)]
     database: PathBuf,
 }
 
@@ -56,6 +58,36 @@ enum Command {
     },
     /// Reference conversions: thermocouples, PRTs, ITS-90, tolerance classes.
     Convert(convert::ConvertArgs),
+    /// Run the known-answer checks of the numerical core and print a dated report.
+    Validate {
+        /// Print the report as JSON.
+        #[arg(long)]
+        json: bool,
+        /// List every check, not only failures.
+        #[arg(long)]
+        verbose: bool,
+    },
+    /// Add users.
+    User {
+        #[command(flatten)]
+        db: DatabaseArg,
+        #[command(subcommand)]
+        action: admin::UserAction,
+    },
+    /// Create and revoke API tokens.
+    Token {
+        #[command(flatten)]
+        db: DatabaseArg,
+        #[command(subcommand)]
+        action: admin::TokenAction,
+    },
+    /// Check the audit trail.
+    Audit {
+        #[command(flatten)]
+        db: DatabaseArg,
+        #[command(subcommand)]
+        action: admin::AuditAction,
+    },
     /// Show or change the laboratory's identity and settings.
     Lab {
         #[command(subcommand)]
@@ -160,6 +192,31 @@ async fn run(cli: Cli) -> Result<(), String> {
             Ok(())
         }
         Command::Convert(args) => convert::run(args),
+        Command::Validate { json, verbose } => {
+            if validate::run(json, verbose)? {
+                Ok(())
+            } else {
+                Err("software validation failed: see the checks marked FAIL above".to_owned())
+            }
+        }
+        Command::User { db, action } => {
+            let pool = open(&db.database).await?;
+            let result = admin::user(&pool, action).await;
+            pool.close().await;
+            result
+        }
+        Command::Token { db, action } => {
+            let pool = open(&db.database).await?;
+            let result = admin::token(&pool, action).await;
+            pool.close().await;
+            result
+        }
+        Command::Audit { db, action } => {
+            let pool = open(&db.database).await?;
+            let result = admin::audit_cmd(&pool, action).await;
+            pool.close().await;
+            result
+        }
         Command::Lab { action } => lab(action).await,
     }
 }
@@ -226,8 +283,11 @@ async fn lab(action: LabAction) -> Result<(), String> {
             coverage_probability,
         } => {
             let pool = open(&db.database).await?;
-            let mut tx = pool.begin().await.map_err(|e| e.to_string())?;
+            let mut tx = store::begin_write(&pool).await.map_err(|e| e.to_string())?;
             let current = store::lab::get(&mut tx).await.map_err(|e| e.to_string())?;
+            let before = current
+                .as_ref()
+                .and_then(|lab| serde_json::to_value(lab).ok());
             let mut lab = match current {
                 Some(lab) => lab,
                 None => {
@@ -288,6 +348,20 @@ async fn lab(action: LabAction) -> Result<(), String> {
             store::lab::put(&mut tx, &lab)
                 .await
                 .map_err(|e| e.to_string())?;
+            let after = serde_json::to_value(&lab).map_err(|e| e.to_string())?;
+            store::audit::append(
+                &mut tx,
+                &store::audit::NewEvent {
+                    actor: "command line",
+                    action: if before.is_some() { "update" } else { "create" },
+                    entity: "lab_settings",
+                    entity_id: "1",
+                    before: before.as_ref(),
+                    after: Some(&after),
+                },
+            )
+            .await
+            .map_err(|e| e.to_string())?;
             tx.commit().await.map_err(|e| e.to_string())?;
             println!("laboratory settings saved in {}", db.database.display());
             Ok(())

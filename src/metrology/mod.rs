@@ -5,6 +5,9 @@
 //!   temperature laboratory calibrates.
 //! * [`stats`]: weighted least squares, GUM budgets, coverage factors,
 //!   Monte Carlo propagation, reporting rules and decision rules.
+//! * [`validation`]: the known-answer checks of this core against published
+//!   values, run inside the installed binary (`juncture validate`).
 
 pub mod stats;
 pub mod thermo;
+pub mod validation;

@@ -4,6 +4,8 @@
 //! service relies on, [`migrate`] applies the embedded migrations, and one
 //! sub-module per group of tables holds the queries.
 
+pub mod accounts;
+pub mod audit;
 pub mod lab;
 
 use std::path::{Path, PathBuf};
@@ -102,6 +104,19 @@ pub async fn connect(path: &Path) -> Result<SqlitePool, StoreError> {
             source,
         })?;
     Ok(pool)
+}
+
+/// Begins a write transaction that takes SQLite's write lock at once
+/// (`BEGIN IMMEDIATE`). Two deferred transactions that both read and then
+/// write can deadlock; an immediate one waits its turn (up to the busy
+/// timeout) instead.
+///
+/// # Errors
+/// Any database error, including a busy timeout.
+pub async fn begin_write(
+    pool: &SqlitePool,
+) -> sqlx::Result<sqlx::Transaction<'static, sqlx::Sqlite>> {
+    pool.begin_with("BEGIN IMMEDIATE").await
 }
 
 /// Opens an in-memory database (for tools and tests that need no file).
