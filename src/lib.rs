@@ -8,6 +8,8 @@
 //!   one module per group of tables.
 //! * [`web`] is the axum application: state, router, errors, JSON API and
 //!   browser pages. Handlers parse, call the store or the core, and render.
+//! * [`domain`] holds the rules between records and core (coefficient
+//!   forms, readings import).
 //! * [`config`] gathers the run-time settings; [`demo`] loads the invented
 //!   demonstration laboratory.
 
@@ -16,6 +18,7 @@
 
 pub mod config;
 pub mod demo;
+pub mod domain;
 pub mod metrology;
 pub mod store;
 pub mod web;

@@ -6,7 +6,10 @@
 
 pub mod accounts;
 pub mod audit;
+pub mod equipment;
 pub mod lab;
+pub mod records;
+pub mod runs;
 
 use std::path::{Path, PathBuf};
 use std::str::FromStr;

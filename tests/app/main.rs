@@ -6,5 +6,6 @@ mod accounts;
 mod compute;
 mod foundation;
 mod helpers;
+mod records;
 mod reference;
 mod smoke;

@@ -1,12 +1,15 @@
 //! The JSON API under `/api/v1`, plus `/healthz`.
 
 pub mod compute;
+pub mod equipment;
 pub mod health;
 pub mod openapi;
+pub mod records;
 pub mod reference;
+pub mod runs;
 
 use axum::Router;
-use axum::routing::{get, post};
+use axum::routing::{get, post, put};
 
 use super::AppState;
 
@@ -26,4 +29,47 @@ pub fn routes() -> Router<AppState> {
             "/api/v1/compute/uncertainty",
             post(compute::post_uncertainty),
         )
+        .route(
+            "/api/v1/customers",
+            get(records::list_customers).post(records::create_customer),
+        )
+        .route(
+            "/api/v1/customers/{id}",
+            get(records::get_customer).put(records::update_customer),
+        )
+        .route(
+            "/api/v1/instruments",
+            get(records::list_instruments).post(records::create_instrument),
+        )
+        .route("/api/v1/instruments/{serial}", get(records::get_instrument))
+        .route(
+            "/api/v1/equipment",
+            get(equipment::list).post(equipment::create),
+        )
+        .route("/api/v1/equipment/{asset_id}", get(equipment::get))
+        .route(
+            "/api/v1/equipment/{asset_id}/status",
+            put(equipment::set_status),
+        )
+        .route(
+            "/api/v1/equipment/{asset_id}/certificates",
+            post(equipment::add_certificate),
+        )
+        .route(
+            "/api/v1/equipment/{asset_id}/characterisations",
+            post(equipment::add_characterisation),
+        )
+        .route(
+            "/api/v1/cmc",
+            get(equipment::list_cmc).post(equipment::add_cmc),
+        )
+        .route("/api/v1/runs", get(runs::list).post(runs::create))
+        .route("/api/v1/runs/{id}", get(runs::get))
+        .route("/api/v1/runs/{id}/set-points", post(runs::add_set_point))
+        .route(
+            "/api/v1/runs/{id}/set-points/{set_point_id}/readings",
+            post(runs::add_readings),
+        )
+        .route("/api/v1/runs/{id}/submit", post(runs::submit))
+        .route("/api/v1/impact", get(runs::impact))
 }

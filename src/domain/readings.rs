@@ -1,0 +1,192 @@
+//! Readings pasted from a spreadsheet or exported by a data logger: text
+//! with a header row, separated by tabs, semicolons or commas, with a
+//! decimal point or (when the separator is not a comma) a decimal comma.
+//!
+//! Recognised columns (case-insensitive, in any order): `reference`
+//! (reference signal), `uut` (unit-under-test signal), optional `rj_t_c`
+//! (reference-junction temperature, °C) and optional `time` (kept as text).
+
+use crate::store::runs::Reading;
+
+/// A problem in the text, with where it is.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("line {line}, column {column}: {message}")]
+pub struct ImportError {
+    /// 1-based line number.
+    pub line: usize,
+    /// 1-based column number (0 when the whole line is concerned).
+    pub column: usize,
+    /// What is wrong and what is allowed.
+    pub message: String,
+}
+
+fn error(line: usize, column: usize, message: impl Into<String>) -> ImportError {
+    ImportError {
+        line,
+        column,
+        message: message.into(),
+    }
+}
+
+/// Most readings accepted in one block.
+pub const MAX_READINGS: usize = 100_000;
+
+/// Parses a block of readings.
+///
+/// # Errors
+/// The first problem found, with its line and column.
+pub fn parse(text: &str) -> Result<Vec<Reading>, ImportError> {
+    let mut lines = text
+        .lines()
+        .enumerate()
+        .map(|(i, l)| (i + 1, l.trim_end_matches('\r')))
+        .filter(|(_, l)| !l.trim().is_empty());
+    let (header_line, header) = lines.next().ok_or_else(|| {
+        error(
+            1,
+            0,
+            "the text is empty; expected a header row such as `time<TAB>reference<TAB>uut`",
+        )
+    })?;
+    let separator = if header.contains('\t') {
+        '\t'
+    } else if header.contains(';') {
+        ';'
+    } else {
+        ','
+    };
+    let names: Vec<String> = header
+        .split(separator)
+        .map(|h| h.trim().trim_matches('"').to_ascii_lowercase())
+        .collect();
+    let find = |wanted: &[&str]| names.iter().position(|n| wanted.contains(&n.as_str()));
+    let reference = find(&["reference", "reference_signal", "ref"]).ok_or_else(|| {
+        error(
+            header_line,
+            0,
+            format!("the header row has no `reference` column; it reads {header:?}"),
+        )
+    })?;
+    let uut = find(&["uut", "uut_signal", "unit_under_test"]).ok_or_else(|| {
+        error(
+            header_line,
+            0,
+            format!("the header row has no `uut` column; it reads {header:?}"),
+        )
+    })?;
+    let rj = find(&["rj_t_c", "rj", "reference_junction_t_c"]);
+    let time = find(&["time", "timestamp", "taken_at"]);
+    let decimal_comma = separator != ',';
+
+    let mut out = Vec::new();
+    for (line, text) in lines {
+        let cells: Vec<&str> = text
+            .split(separator)
+            .map(|c| c.trim().trim_matches('"'))
+            .collect();
+        if cells.len() != names.len() {
+            return Err(error(
+                line,
+                0,
+                format!("{} columns; the header has {}", cells.len(), names.len()),
+            ));
+        }
+        let number = |index: usize| -> Result<f64, ImportError> {
+            let raw = cells[index];
+            let normal = if decimal_comma {
+                raw.replace(',', ".")
+            } else {
+                raw.to_owned()
+            };
+            let value: f64 = normal.parse().map_err(|_| {
+                error(
+                    line,
+                    index + 1,
+                    format!("{raw:?} in column `{}` is not a number", names[index]),
+                )
+            })?;
+            if !value.is_finite() {
+                return Err(error(
+                    line,
+                    index + 1,
+                    format!(
+                        "{raw:?} in column `{}` is not a finite number",
+                        names[index]
+                    ),
+                ));
+            }
+            Ok(value)
+        };
+        let rj_t_c = match rj {
+            Some(i) if !cells[i].is_empty() => Some(number(i)?),
+            _ => None,
+        };
+        out.push(Reading {
+            position: 0,
+            taken_at: time.map(|i| cells[i].to_owned()).filter(|t| !t.is_empty()),
+            reference_signal: number(reference)?,
+            uut_signal: number(uut)?,
+            rj_t_c,
+        });
+        if out.len() > MAX_READINGS {
+            return Err(error(
+                line,
+                0,
+                format!("more than {MAX_READINGS} readings in one block"),
+            ));
+        }
+    }
+    if out.is_empty() {
+        return Err(error(
+            header_line,
+            0,
+            "the header row is followed by no readings",
+        ));
+    }
+    Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn tab_separated_with_decimal_comma() {
+        let text = "time\treference\tuut\trj_t_c\n10:00:00\t100,0123\t4,0961\t22,5\n10:00:10\t100,0131\t4,0962\t22,6\n";
+        let r = parse(text).expect("parses");
+        assert_eq!(r.len(), 2);
+        assert_eq!(r[0].reference_signal, 100.0123);
+        assert_eq!(r[1].uut_signal, 4.0962);
+        assert_eq!(r[1].rj_t_c, Some(22.6));
+        assert_eq!(r[0].taken_at.as_deref(), Some("10:00:00"));
+    }
+
+    #[test]
+    fn comma_separated_with_decimal_point_in_any_column_order() {
+        let r = parse("uut,reference\n1.5,2.5\n").expect("parses");
+        assert_eq!((r[0].reference_signal, r[0].uut_signal), (2.5, 1.5));
+        assert_eq!(r[0].rj_t_c, None);
+    }
+
+    #[test]
+    fn errors_name_line_and_column() {
+        let e = parse("reference;uut\n1,0;2,0\n1,0;abc\n").expect_err("bad number");
+        assert_eq!((e.line, e.column), (3, 2));
+        assert!(
+            e.to_string()
+                .contains("\"abc\" in column `uut` is not a number"),
+            "{e}"
+        );
+        let e = parse("reference,uut\n1.0\n").expect_err("short line");
+        assert_eq!(
+            e.to_string(),
+            "line 2, column 0: 1 columns; the header has 2"
+        );
+        let e = parse("a,b\n1,2\n").expect_err("no reference column");
+        assert!(e.message.contains("no `reference` column"));
+        let e = parse("reference,uut\n1.0,NaN\n").expect_err("nan");
+        assert!(e.message.contains("not a finite number"));
+        assert!(parse("").is_err());
+        assert!(parse("reference,uut\n").is_err());
+    }
+}

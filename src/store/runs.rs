@@ -1,0 +1,378 @@
+//! Comparison runs, their set points and raw readings.
+
+use serde::Serialize;
+use sqlx::SqliteConnection;
+
+/// A comparison run.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Run {
+    /// Row id.
+    pub id: i64,
+    /// Unit under test.
+    pub instrument_id: i64,
+    /// Reference standard.
+    pub reference_id: i64,
+    /// Readout of the reference.
+    pub reference_readout_id: Option<i64>,
+    /// Readout of the unit under test.
+    pub uut_readout_id: Option<i64>,
+    /// Comparison medium.
+    pub medium_id: Option<i64>,
+    /// Date of the measurements (YYYY-MM-DD).
+    pub performed_on: String,
+    /// Procedure identifier and revision.
+    pub procedure_ref: String,
+    /// Where the work was done.
+    pub location: String,
+    /// Ambient temperature, °C.
+    pub ambient_t_c: Option<f64>,
+    /// Ambient relative humidity, %.
+    pub ambient_rh_percent: Option<f64>,
+    /// ice_point, measured, compensated or not_applicable.
+    pub rj_method: String,
+    /// Immersion depth, mm.
+    pub immersion_mm: Option<f64>,
+    /// as_found or as_left.
+    pub condition: String,
+    /// simple, guarded, guarded_non_binary or none.
+    pub decision_rule: String,
+    /// Guard band factor r (w = r U).
+    pub guard_band_factor: f64,
+    /// Tolerance class (e.g. "1", "A").
+    pub tolerance_class: Option<String>,
+    /// Customer tolerance ±, °C.
+    pub tolerance_limit_c: Option<f64>,
+    /// Degree of the deviation function.
+    pub fit_degree: Option<i64>,
+    /// Lab-entered budget rows (JSON text).
+    pub extra_budget: String,
+    /// Technician.
+    pub technician_id: i64,
+    /// open, submitted, returned or approved.
+    pub status: String,
+    /// Optimistic-concurrency version.
+    pub version: i64,
+    /// Created (UTC).
+    pub created_at: String,
+    /// Last changed (UTC).
+    pub updated_at: String,
+    /// When submitted for review.
+    pub submitted_at: Option<String>,
+}
+
+/// Fields of a run a caller sets.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RunFields {
+    /// Unit under test.
+    pub instrument_id: i64,
+    /// Reference standard.
+    pub reference_id: i64,
+    /// Reference readout.
+    pub reference_readout_id: Option<i64>,
+    /// UUT readout.
+    pub uut_readout_id: Option<i64>,
+    /// Medium.
+    pub medium_id: Option<i64>,
+    /// Date.
+    pub performed_on: String,
+    /// Procedure.
+    pub procedure_ref: String,
+    /// Location.
+    pub location: String,
+    /// Ambient temperature, °C.
+    pub ambient_t_c: Option<f64>,
+    /// Ambient humidity, %.
+    pub ambient_rh_percent: Option<f64>,
+    /// Reference-junction method.
+    pub rj_method: String,
+    /// Immersion, mm.
+    pub immersion_mm: Option<f64>,
+    /// as_found / as_left.
+    pub condition: String,
+    /// Decision rule.
+    pub decision_rule: String,
+    /// Guard band factor.
+    pub guard_band_factor: f64,
+    /// Tolerance class.
+    pub tolerance_class: Option<String>,
+    /// Customer limit, °C.
+    pub tolerance_limit_c: Option<f64>,
+    /// Fit degree.
+    pub fit_degree: Option<i64>,
+    /// Lab-entered budget rows (JSON text).
+    pub extra_budget: String,
+}
+
+/// Creates a run for `technician_id`; returns it.
+///
+/// # Errors
+/// Any database error.
+pub async fn create(
+    conn: &mut SqliteConnection,
+    f: &RunFields,
+    technician_id: i64,
+) -> sqlx::Result<Run> {
+    let now = super::now_timestamp();
+    let id = sqlx::query_scalar!(
+        r#"INSERT INTO run (instrument_id, reference_id, reference_readout_id, uut_readout_id, medium_id,
+               performed_on, procedure_ref, location, ambient_t_c, ambient_rh_percent, rj_method,
+               immersion_mm, condition, decision_rule, guard_band_factor, tolerance_class,
+               tolerance_limit_c, fit_degree, extra_budget, technician_id, created_at, updated_at)
+           VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+           RETURNING id AS "id!: i64""#,
+        f.instrument_id,
+        f.reference_id,
+        f.reference_readout_id,
+        f.uut_readout_id,
+        f.medium_id,
+        f.performed_on,
+        f.procedure_ref,
+        f.location,
+        f.ambient_t_c,
+        f.ambient_rh_percent,
+        f.rj_method,
+        f.immersion_mm,
+        f.condition,
+        f.decision_rule,
+        f.guard_band_factor,
+        f.tolerance_class,
+        f.tolerance_limit_c,
+        f.fit_degree,
+        f.extra_budget,
+        technician_id,
+        now,
+        now
+    )
+    .fetch_one(&mut *conn)
+    .await?;
+    by_id(conn, id).await?.ok_or(sqlx::Error::RowNotFound)
+}
+
+/// One run by id.
+///
+/// # Errors
+/// Any database error.
+pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Run>> {
+    sqlx::query_as!(
+        Run,
+        r#"SELECT id AS "id!: i64", instrument_id, reference_id, reference_readout_id, uut_readout_id,
+                  medium_id, performed_on, procedure_ref, location, ambient_t_c, ambient_rh_percent,
+                  rj_method, immersion_mm, condition, decision_rule,
+                  guard_band_factor AS "guard_band_factor!: f64", tolerance_class, tolerance_limit_c,
+                  fit_degree, extra_budget, technician_id, status, version, created_at, updated_at,
+                  submitted_at
+           FROM run WHERE id = ?"#,
+        id
+    )
+    .fetch_optional(conn)
+    .await
+}
+
+/// All runs, newest first.
+///
+/// # Errors
+/// Any database error.
+pub async fn all(conn: &mut SqliteConnection) -> sqlx::Result<Vec<Run>> {
+    sqlx::query_as!(
+        Run,
+        r#"SELECT id AS "id!: i64", instrument_id, reference_id, reference_readout_id, uut_readout_id,
+                  medium_id, performed_on, procedure_ref, location, ambient_t_c, ambient_rh_percent,
+                  rj_method, immersion_mm, condition, decision_rule,
+                  guard_band_factor AS "guard_band_factor!: f64", tolerance_class, tolerance_limit_c,
+                  fit_degree, extra_budget, technician_id, status, version, created_at, updated_at,
+                  submitted_at
+           FROM run ORDER BY performed_on DESC, id DESC"#
+    )
+    .fetch_all(conn)
+    .await
+}
+
+/// Runs that used an equipment item (as reference, readout or medium)
+/// with a run date in [from, to].
+///
+/// # Errors
+/// Any database error.
+pub async fn using_equipment(
+    conn: &mut SqliteConnection,
+    equipment_id: i64,
+    from: &str,
+    to: &str,
+) -> sqlx::Result<Vec<Run>> {
+    sqlx::query_as!(
+        Run,
+        r#"SELECT id AS "id!: i64", instrument_id, reference_id, reference_readout_id, uut_readout_id,
+                  medium_id, performed_on, procedure_ref, location, ambient_t_c, ambient_rh_percent,
+                  rj_method, immersion_mm, condition, decision_rule,
+                  guard_band_factor AS "guard_band_factor!: f64", tolerance_class, tolerance_limit_c,
+                  fit_degree, extra_budget, technician_id, status, version, created_at, updated_at,
+                  submitted_at
+           FROM run
+           WHERE (reference_id = ?1 OR reference_readout_id = ?1 OR uut_readout_id = ?1 OR medium_id = ?1)
+             AND performed_on BETWEEN ?2 AND ?3
+           ORDER BY performed_on, id"#,
+        equipment_id,
+        from,
+        to
+    )
+    .fetch_all(conn)
+    .await
+}
+
+/// Bumps a run's version if it is still at `expected_version`; returns
+/// whether it was (a stale edit returns false and changes nothing).
+///
+/// # Errors
+/// Any database error.
+pub async fn touch(
+    conn: &mut SqliteConnection,
+    id: i64,
+    expected_version: i64,
+) -> sqlx::Result<bool> {
+    let now = super::now_timestamp();
+    let done = sqlx::query!(
+        "UPDATE run SET version = version + 1, updated_at = ? WHERE id = ? AND version = ?",
+        now,
+        id,
+        expected_version
+    )
+    .execute(conn)
+    .await?;
+    Ok(done.rows_affected() == 1)
+}
+
+/// Marks a run submitted for review.
+///
+/// # Errors
+/// Any database error.
+pub async fn submit(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<()> {
+    let now = super::now_timestamp();
+    sqlx::query!(
+        "UPDATE run SET status = 'submitted', submitted_at = ?, updated_at = ?, version = version + 1
+         WHERE id = ?",
+        now,
+        now,
+        id
+    )
+    .execute(conn)
+    .await?;
+    Ok(())
+}
+
+/// A set point.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SetPoint {
+    /// Row id.
+    pub id: i64,
+    /// Its run.
+    pub run_id: i64,
+    /// Nominal temperature, °C.
+    pub nominal_t_c: f64,
+}
+
+/// Adds a set point to a run.
+///
+/// # Errors
+/// Any database error (a duplicate nominal temperature is a unique violation).
+pub async fn add_set_point(
+    conn: &mut SqliteConnection,
+    run_id: i64,
+    nominal_t_c: f64,
+) -> sqlx::Result<SetPoint> {
+    let now = super::now_timestamp();
+    let id = sqlx::query_scalar!(
+        r#"INSERT INTO set_point (run_id, nominal_t_c, created_at) VALUES (?, ?, ?) RETURNING id AS "id!: i64""#,
+        run_id,
+        nominal_t_c,
+        now
+    )
+    .fetch_one(conn)
+    .await?;
+    Ok(SetPoint {
+        id,
+        run_id,
+        nominal_t_c,
+    })
+}
+
+/// A run's set points by nominal temperature.
+///
+/// # Errors
+/// Any database error.
+pub async fn set_points(conn: &mut SqliteConnection, run_id: i64) -> sqlx::Result<Vec<SetPoint>> {
+    sqlx::query_as!(
+        SetPoint,
+        r#"SELECT id AS "id!: i64", run_id, nominal_t_c AS "nominal_t_c!: f64"
+           FROM set_point WHERE run_id = ? ORDER BY nominal_t_c"#,
+        run_id
+    )
+    .fetch_all(conn)
+    .await
+}
+
+/// A raw reading.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Reading {
+    /// Order within the set point, from 1.
+    pub position: i64,
+    /// When taken, as recorded.
+    pub taken_at: Option<String>,
+    /// Reference signal (mV, Ω or °C by the reference's kind).
+    pub reference_signal: f64,
+    /// UUT signal (mV, Ω or °C by the instrument's kind).
+    pub uut_signal: f64,
+    /// Reference-junction temperature, °C, when measured.
+    pub rj_t_c: Option<f64>,
+}
+
+/// Appends readings to a set point after the ones it has; returns how many
+/// it now holds.
+///
+/// # Errors
+/// Any database error.
+pub async fn append_readings(
+    conn: &mut SqliteConnection,
+    set_point_id: i64,
+    readings: &[Reading],
+) -> sqlx::Result<i64> {
+    let start: i64 = sqlx::query_scalar!(
+        r#"SELECT COALESCE(MAX(position), 0) AS "n!: i64" FROM reading WHERE set_point_id = ?"#,
+        set_point_id
+    )
+    .fetch_one(&mut *conn)
+    .await?;
+    for (i, r) in readings.iter().enumerate() {
+        let position = start + 1 + i as i64;
+        sqlx::query!(
+            "INSERT INTO reading (set_point_id, position, taken_at, reference_signal, uut_signal, rj_t_c)
+             VALUES (?, ?, ?, ?, ?, ?)",
+            set_point_id,
+            position,
+            r.taken_at,
+            r.reference_signal,
+            r.uut_signal,
+            r.rj_t_c
+        )
+        .execute(&mut *conn)
+        .await?;
+    }
+    Ok(start + readings.len() as i64)
+}
+
+/// A set point's readings in order.
+///
+/// # Errors
+/// Any database error.
+pub async fn readings(
+    conn: &mut SqliteConnection,
+    set_point_id: i64,
+) -> sqlx::Result<Vec<Reading>> {
+    sqlx::query_as!(
+        Reading,
+        r#"SELECT position AS "position!: i64", taken_at, reference_signal AS "reference_signal!: f64",
+                  uut_signal AS "uut_signal!: f64", rj_t_c
+           FROM reading WHERE set_point_id = ? ORDER BY position"#,
+        set_point_id
+    )
+    .fetch_all(conn)
+    .await
+}

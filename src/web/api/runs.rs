@@ -1,0 +1,796 @@
+//! Comparison runs: `/api/v1/runs`, set points, readings, submission and
+//! the impact query.
+
+use axum::Json;
+use axum::body::Bytes;
+use axum::extract::{Path, Query, State};
+use axum::http::{HeaderMap, StatusCode, header};
+use serde::{Deserialize, Serialize};
+
+use super::equipment::check_date;
+use super::records::{ApiResult, Problems, record};
+use crate::domain::readings;
+use crate::metrology::thermo::ThermocoupleType;
+use crate::store::accounts::Role;
+use crate::store::equipment::{self, Equipment};
+use crate::store::records::{self, Instrument};
+use crate::store::runs::{self, Reading, Run, RunFields, SetPoint};
+use crate::store::{self, lab};
+use crate::web::auth::Caller;
+use crate::web::extract::ApiJson;
+use crate::web::{AppError, AppState};
+
+/// Roles that record runs.
+pub const RUN_ROLES: &[Role] = &[Role::Technician, Role::Administrator];
+
+fn json<T: Serialize>(value: &T) -> serde_json::Value {
+    serde_json::to_value(value).unwrap_or(serde_json::Value::Null)
+}
+
+/// Why an equipment item may not be used on a date, if it may not.
+///
+/// # Errors
+/// Any database error.
+pub async fn unusable_reason(
+    conn: &mut sqlx::SqliteConnection,
+    item: &Equipment,
+    date: &str,
+) -> Result<Option<String>, AppError> {
+    if item.status == "out_of_service" {
+        let why = if item.status_reason.is_empty() {
+            String::new()
+        } else {
+            format!(" ({})", item.status_reason)
+        };
+        return Ok(Some(format!("{} is out of service{why}", item.asset_id)));
+    }
+    if ["bath", "furnace", "dry_block"].contains(&item.kind.as_str()) {
+        let ranges = equipment::characterisation_on(conn, item.id, date).await?;
+        if let Some(first) = ranges.first() {
+            let interval = lab::get(conn)
+                .await?
+                .map_or(365, |l| l.characterisation_interval_days);
+            if let (Ok(on), Ok(run)) = (parse_date(&first.characterised_on), parse_date(date))
+                && (run - on).whole_days() > interval
+            {
+                return Ok(Some(format!(
+                    "{} was last characterised on {}, more than {interval} days before {date}",
+                    item.asset_id, first.characterised_on
+                )));
+            }
+        }
+        return Ok(None);
+    }
+    match equipment::certificate_on(conn, item.id, date).await? {
+        None => Ok(Some(format!(
+            "{} has no calibration certificate dated on or before {date}",
+            item.asset_id
+        ))),
+        Some(c) if c.due_on.as_str() < date => Ok(Some(format!(
+            "{} was due for calibration on {} (certificate {}); the run is dated {date}",
+            item.asset_id, c.due_on, c.number
+        ))),
+        Some(_) => Ok(None),
+    }
+}
+
+fn parse_date(text: &str) -> Result<time::Date, time::error::Parse> {
+    time::Date::parse(
+        text,
+        &time::macros::format_description!("[year]-[month]-[day]"),
+    )
+}
+
+/// Body of a new run.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RunBody {
+    /// Serial number of the unit under test.
+    pub instrument_serial: String,
+    /// Asset id of the reference standard.
+    pub reference: String,
+    /// Asset id of the reference's readout.
+    #[serde(default)]
+    pub reference_readout: Option<String>,
+    /// Asset id of the UUT's readout.
+    #[serde(default)]
+    pub uut_readout: Option<String>,
+    /// Asset id of the comparison medium.
+    #[serde(default)]
+    pub medium: Option<String>,
+    /// Date of the measurements.
+    pub performed_on: String,
+    /// Procedure identifier and revision.
+    pub procedure_ref: String,
+    /// Location.
+    #[serde(default)]
+    pub location: String,
+    /// Ambient temperature, °C.
+    #[serde(default)]
+    pub ambient_t_c: Option<f64>,
+    /// Ambient relative humidity, %.
+    #[serde(default)]
+    pub ambient_rh_percent: Option<f64>,
+    /// ice_point, measured or compensated (thermocouples).
+    #[serde(default)]
+    pub rj_method: Option<String>,
+    /// Immersion depth, mm.
+    #[serde(default)]
+    pub immersion_mm: Option<f64>,
+    /// as_found or as_left.
+    #[serde(default = "as_found")]
+    pub condition: String,
+    /// simple, guarded, guarded_non_binary or none.
+    #[serde(default = "simple")]
+    pub decision_rule: String,
+    /// Guard band factor r.
+    #[serde(default = "one")]
+    pub guard_band_factor: f64,
+    /// Tolerance class: 1, 2, 3, standard, special (thermocouples); AA, A, B, C (PRTs).
+    #[serde(default)]
+    pub tolerance_class: Option<String>,
+    /// Customer limit ±, °C.
+    #[serde(default)]
+    pub tolerance_limit_c: Option<f64>,
+    /// Degree of the deviation function (0..5).
+    #[serde(default)]
+    pub fit_degree: Option<i64>,
+    /// Lab-entered budget rows.
+    #[serde(default)]
+    pub extra_budget: Vec<ExtraBudgetRow>,
+}
+
+/// A lab-entered budget row (immersion, self-heating, inhomogeneity, ...).
+#[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ExtraBudgetRow {
+    /// Name.
+    pub name: String,
+    /// rectangular, triangular, u_shaped or normal.
+    pub distribution: String,
+    /// Half-width (or, for normal, the standard uncertainty), °C.
+    pub value_c: f64,
+}
+
+fn as_found() -> String {
+    "as_found".to_owned()
+}
+fn simple() -> String {
+    "simple".to_owned()
+}
+fn one() -> f64 {
+    1.0
+}
+
+struct Resolved {
+    instrument: Instrument,
+    fields: RunFields,
+    equipment: Vec<(&'static str, Equipment)>,
+}
+
+async fn resolve(conn: &mut sqlx::SqliteConnection, body: RunBody) -> Result<Resolved, AppError> {
+    let mut p = Problems::default();
+    check_date(&mut p, "performed_on", &body.performed_on);
+    p.text("procedure_ref", &body.procedure_ref);
+    let instrument = records::instrument_by_serial(conn, &body.instrument_serial).await?;
+    if instrument.is_none() {
+        p.add(
+            "instrument_serial",
+            format!(
+                "there is no instrument with serial number {:?}",
+                body.instrument_serial
+            ),
+        );
+    }
+    let mut equipment_used = Vec::new();
+    let lookup = |field: &'static str, asset: Option<String>| (field, asset);
+    let wanted = [
+        lookup("reference", Some(body.reference.clone())),
+        lookup("reference_readout", body.reference_readout.clone()),
+        lookup("uut_readout", body.uut_readout.clone()),
+        lookup("medium", body.medium.clone()),
+    ];
+    let mut ids = [None; 4];
+    for (i, (field, asset)) in wanted.into_iter().enumerate() {
+        let Some(asset) = asset else { continue };
+        match equipment::by_asset_id(conn, &asset).await? {
+            None => p.add(
+                field,
+                format!("there is no equipment with asset id {asset:?}"),
+            ),
+            Some(item) => {
+                let kind_ok = match field {
+                    "reference" => item.kind.starts_with("reference_"),
+                    "medium" => ["bath", "furnace", "dry_block"].contains(&item.kind.as_str()),
+                    _ => item.kind == "readout",
+                };
+                if !kind_ok {
+                    p.add(
+                        field,
+                        format!(
+                            "{asset} is a {}, which cannot serve as the {}",
+                            item.kind,
+                            field.replace('_', " ")
+                        ),
+                    );
+                } else if let Some(reason) =
+                    unusable_reason(conn, &item, &body.performed_on).await?
+                {
+                    p.add(field, format!("{reason}; it cannot be used"));
+                }
+                ids[i] = Some(item.id);
+                equipment_used.push((field, item));
+            }
+        }
+    }
+    let kind = instrument
+        .as_ref()
+        .map_or("", |i| i.kind.as_str())
+        .to_owned();
+    let rj_method = match (kind.as_str(), body.rj_method.as_deref()) {
+        ("thermocouple", Some(m @ ("ice_point" | "measured" | "compensated"))) => m.to_owned(),
+        ("thermocouple", Some(other)) => {
+            p.add(
+                "rj_method",
+                format!("unknown method {other:?}; expected ice_point, measured or compensated"),
+            );
+            String::new()
+        }
+        ("thermocouple", None) => {
+            p.add("rj_method", "a thermocouple run needs the reference-junction method: ice_point, measured or compensated");
+            String::new()
+        }
+        (_, Some(_)) => {
+            p.add(
+                "rj_method",
+                "only thermocouple runs have a reference-junction method",
+            );
+            String::new()
+        }
+        (_, None) => "not_applicable".to_owned(),
+    };
+    if !["as_found", "as_left"].contains(&body.condition.as_str()) {
+        p.add("condition", "expected as_found or as_left");
+    }
+    if !["simple", "guarded", "guarded_non_binary", "none"].contains(&body.decision_rule.as_str()) {
+        p.add(
+            "decision_rule",
+            "expected simple, guarded, guarded_non_binary or none",
+        );
+    }
+    if !(body.guard_band_factor.is_finite() && body.guard_band_factor >= 0.0) {
+        p.add("guard_band_factor", "must be a finite number >= 0");
+    }
+    if let Some(class) = &body.tolerance_class {
+        let ok = match kind.as_str() {
+            "thermocouple" => class
+                .parse::<crate::metrology::thermo::ThermocoupleClass>()
+                .is_ok(),
+            "prt" => class.parse::<crate::metrology::thermo::PrtClass>().is_ok(),
+            _ => false,
+        };
+        if !ok {
+            p.add("tolerance_class", format!("{class:?} is not a tolerance class for a {kind}; thermocouples: 1, 2, 3, standard, special; PRTs: AA, A, B, C"));
+        }
+    }
+    if body.tolerance_class.is_some() && body.tolerance_limit_c.is_some() {
+        p.add(
+            "tolerance_limit_c",
+            "give a tolerance class or a customer limit, not both",
+        );
+    }
+    if let Some(l) = body.tolerance_limit_c
+        && !(l.is_finite() && l > 0.0)
+    {
+        p.add("tolerance_limit_c", "must be a positive number of °C");
+    }
+    if body.decision_rule != "none"
+        && body.tolerance_class.is_none()
+        && body.tolerance_limit_c.is_none()
+    {
+        p.add("decision_rule", "a decision rule needs a tolerance class or a customer limit; use \"none\" for no conformity statement");
+    }
+    if let Some(d) = body.fit_degree
+        && !(0..=5).contains(&d)
+    {
+        p.add("fit_degree", "must be between 0 and 5");
+    }
+    for (i, row) in body.extra_budget.iter().enumerate() {
+        if row.name.trim().is_empty() {
+            p.add(&format!("extra_budget[{i}].name"), "must not be empty");
+        }
+        if !["rectangular", "triangular", "u_shaped", "normal"].contains(&row.distribution.as_str())
+        {
+            p.add(
+                &format!("extra_budget[{i}].distribution"),
+                "expected rectangular, triangular, u_shaped or normal",
+            );
+        }
+        if !(row.value_c.is_finite() && row.value_c >= 0.0) {
+            p.add(
+                &format!("extra_budget[{i}].value_c"),
+                "must be a finite number of °C >= 0",
+            );
+        }
+    }
+    p.finish()?;
+    let instrument =
+        instrument.ok_or_else(|| AppError::Internal("instrument vanished".to_owned()))?;
+    let reference_id = ids[0].ok_or_else(|| AppError::Internal("reference vanished".to_owned()))?;
+    let fields = RunFields {
+        instrument_id: instrument.id,
+        reference_id,
+        reference_readout_id: ids[1],
+        uut_readout_id: ids[2],
+        medium_id: ids[3],
+        performed_on: body.performed_on,
+        procedure_ref: body.procedure_ref.trim().to_owned(),
+        location: body.location,
+        ambient_t_c: body.ambient_t_c,
+        ambient_rh_percent: body.ambient_rh_percent,
+        rj_method,
+        immersion_mm: body.immersion_mm,
+        condition: body.condition,
+        decision_rule: body.decision_rule,
+        guard_band_factor: body.guard_band_factor,
+        tolerance_class: body.tolerance_class,
+        tolerance_limit_c: body.tolerance_limit_c,
+        fit_degree: body.fit_degree,
+        extra_budget: serde_json::to_string(&body.extra_budget)
+            .map_err(|e| AppError::Internal(e.to_string()))?,
+    };
+    Ok(Resolved {
+        instrument,
+        fields,
+        equipment: equipment_used,
+    })
+}
+
+/// `POST /api/v1/runs`.
+pub async fn create(
+    State(state): State<AppState>,
+    caller: Caller,
+    ApiJson(body): ApiJson<RunBody>,
+) -> ApiResult<(StatusCode, Json<Run>)> {
+    caller.may_change(RUN_ROLES, "recording runs")?;
+    let mut tx = store::begin_write(&state.db).await?;
+    let resolved = resolve(&mut tx, body).await?;
+    let run = runs::create(&mut tx, &resolved.fields, caller.user_id).await?;
+    let after = serde_json::json!({
+        "run": run,
+        "instrument": resolved.instrument.serial,
+        "equipment": resolved.equipment.iter().map(|(role, e)| serde_json::json!({"role": role, "asset_id": e.asset_id})).collect::<Vec<_>>(),
+    });
+    record(
+        &mut tx,
+        &caller,
+        "create",
+        "run",
+        &run.id.to_string(),
+        None,
+        Some(&after),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok((StatusCode::CREATED, Json(run)))
+}
+
+/// `GET /api/v1/runs`.
+pub async fn list(State(state): State<AppState>, _caller: Caller) -> ApiResult<Json<Vec<Run>>> {
+    let mut conn = state.db.acquire().await?;
+    Ok(Json(runs::all(&mut conn).await?))
+}
+
+/// A set point with its readings.
+#[derive(Debug, Serialize)]
+pub struct SetPointDetail {
+    /// The set point.
+    #[serde(flatten)]
+    pub set_point: SetPoint,
+    /// Its raw readings.
+    pub readings: Vec<Reading>,
+}
+
+/// A run with its set points and readings.
+#[derive(Debug, Serialize)]
+pub struct RunDetail {
+    /// The run.
+    #[serde(flatten)]
+    pub run: Run,
+    /// Set points by temperature.
+    pub set_points: Vec<SetPointDetail>,
+}
+
+async fn run_or_404(conn: &mut sqlx::SqliteConnection, id: i64) -> Result<Run, AppError> {
+    runs::by_id(conn, id)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("there is no run {id}")))
+}
+
+/// `GET /api/v1/runs/{id}`.
+pub async fn get(
+    State(state): State<AppState>,
+    _caller: Caller,
+    Path(id): Path<i64>,
+) -> ApiResult<Json<RunDetail>> {
+    let mut conn = state.db.acquire().await?;
+    let run = run_or_404(&mut conn, id).await?;
+    let mut set_points = Vec::new();
+    for sp in runs::set_points(&mut conn, id).await? {
+        let readings = runs::readings(&mut conn, sp.id).await?;
+        set_points.push(SetPointDetail {
+            set_point: sp,
+            readings,
+        });
+    }
+    Ok(Json(RunDetail { run, set_points }))
+}
+
+/// Refuses changes to a run the caller may not edit now, and stale edits.
+fn editable(run: &Run, caller: &Caller, version: i64) -> Result<(), AppError> {
+    if !matches!(run.status.as_str(), "open" | "returned") {
+        return Err(AppError::Conflict(format!(
+            "run {} has been {} and is read-only",
+            run.id, run.status
+        )));
+    }
+    if run.technician_id != caller.user_id && caller.role != Role::Administrator {
+        return Err(AppError::Conflict(format!(
+            "run {} belongs to another technician; only they (or an administrator) may change it",
+            run.id
+        )));
+    }
+    if run.version != version {
+        return Err(AppError::Conflict(format!(
+            "run {} has changed since you loaded it (you have version {version}, it is now at version {}); reload it and enter your change again",
+            run.id, run.version
+        )));
+    }
+    Ok(())
+}
+
+/// Body of a new set point.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SetPointBody {
+    /// Nominal temperature, °C.
+    pub nominal_t_c: f64,
+    /// The run version the change is based on.
+    pub version: i64,
+}
+
+/// `POST /api/v1/runs/{id}/set-points`.
+pub async fn add_set_point(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path(id): Path<i64>,
+    ApiJson(body): ApiJson<SetPointBody>,
+) -> ApiResult<(StatusCode, Json<SetPoint>)> {
+    caller.may_change(RUN_ROLES, "changing runs")?;
+    if !body.nominal_t_c.is_finite() {
+        return Err(AppError::invalid("nominal_t_c", "must be a finite temperature in °C").into());
+    }
+    let mut tx = store::begin_write(&state.db).await?;
+    let run = run_or_404(&mut tx, id).await?;
+    editable(&run, &caller, body.version)?;
+    let sp = runs::add_set_point(&mut tx, id, body.nominal_t_c)
+        .await
+        .map_err(|e| match e.as_database_error() {
+            Some(db) if db.is_unique_violation() => AppError::invalid(
+                "nominal_t_c",
+                format!(
+                    "run {id} already has a set point at {} °C",
+                    body.nominal_t_c
+                ),
+            ),
+            _ => AppError::Db(e),
+        })?;
+    runs::touch(&mut tx, id, run.version).await?;
+    record(
+        &mut tx,
+        &caller,
+        "add_set_point",
+        "run",
+        &id.to_string(),
+        None,
+        Some(&json(&sp)),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok((StatusCode::CREATED, Json(sp)))
+}
+
+/// Body of readings as JSON.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ReadingsBody {
+    /// The run version the change is based on.
+    pub version: i64,
+    /// The readings, in the order taken.
+    pub readings: Vec<ReadingBody>,
+}
+
+/// One reading as JSON.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ReadingBody {
+    /// When taken (free text, e.g. ISO 8601).
+    #[serde(default)]
+    pub taken_at: Option<String>,
+    /// Reference signal.
+    pub reference_signal: f64,
+    /// UUT signal.
+    pub uut_signal: f64,
+    /// Reference-junction temperature, °C.
+    #[serde(default)]
+    pub rj_t_c: Option<f64>,
+}
+
+/// Query of a text upload.
+#[derive(Debug, Deserialize)]
+pub struct VersionQuery {
+    /// The run version the change is based on.
+    pub version: Option<i64>,
+}
+
+/// The outcome of adding readings.
+#[derive(Debug, Serialize)]
+pub struct ReadingsAdded {
+    /// How many were added.
+    pub added: usize,
+    /// How many the set point now holds.
+    pub total: i64,
+    /// The run's new version.
+    pub version: i64,
+}
+
+/// Checks readings against the sensors' ranges; names the offending one.
+fn check_readings(
+    readings: &[Reading],
+    instrument: &Instrument,
+    rj_method: &str,
+) -> Result<(), AppError> {
+    let mut p = Problems::default();
+    for (i, r) in readings.iter().enumerate() {
+        let at = format!("readings[{i}]");
+        match instrument.kind.as_str() {
+            "thermocouple" => {
+                if rj_method != "compensated"
+                    && let Some(t) = instrument
+                        .tc_type
+                        .as_deref()
+                        .and_then(|t| t.parse::<ThermocoupleType>().ok())
+                {
+                    let (lo, hi) = t.emf_range();
+                    if !(lo..=hi).contains(&r.uut_signal) {
+                        p.add(&format!("{at}.uut_signal"), format!("{} mV is outside the emf range of type {t}, {lo:.3} mV to {hi:.3} mV", r.uut_signal));
+                    }
+                }
+                if rj_method == "measured" && r.rj_t_c.is_none() {
+                    p.add(&format!("{at}.rj_t_c"), "the reference junction is measured: give its temperature in °C with every reading");
+                }
+            }
+            "prt" | "sprt" if r.uut_signal <= 0.0 => {
+                p.add(
+                    &format!("{at}.uut_signal"),
+                    format!("{} Ω: a resistance must be positive", r.uut_signal),
+                );
+            }
+            _ => {}
+        }
+        if let Some(t) = r.rj_t_c
+            && !(-50.0..=100.0).contains(&t)
+        {
+            p.add(
+                &format!("{at}.rj_t_c"),
+                format!(
+                    "{t} °C is not a plausible reference-junction temperature (-50 °C to 100 °C)"
+                ),
+            );
+        }
+    }
+    p.finish()
+}
+
+/// `POST /api/v1/runs/{id}/set-points/{set_point_id}/readings`: JSON
+/// (`application/json`) or text pasted from a spreadsheet or exported by a
+/// logger (`text/csv`, `text/tab-separated-values`, `text/plain`, with
+/// `?version=N`).
+pub async fn add_readings(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path((id, set_point_id)): Path<(i64, i64)>,
+    Query(query): Query<VersionQuery>,
+    headers: HeaderMap,
+    body: Bytes,
+) -> ApiResult<(StatusCode, Json<ReadingsAdded>)> {
+    caller.may_change(RUN_ROLES, "entering readings")?;
+    let content_type = headers
+        .get(header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .unwrap_or("")
+        .to_ascii_lowercase();
+    let (version, readings) = if content_type.starts_with("application/json") {
+        let parsed: ReadingsBody = serde_json::from_slice(&body).map_err(|e| {
+            AppError::BadRequest(format!(
+                "the request body is not valid JSON for this endpoint: {e}"
+            ))
+        })?;
+        let readings = parsed
+            .readings
+            .into_iter()
+            .map(|r| Reading {
+                position: 0,
+                taken_at: r.taken_at,
+                reference_signal: r.reference_signal,
+                uut_signal: r.uut_signal,
+                rj_t_c: r.rj_t_c,
+            })
+            .collect::<Vec<_>>();
+        (parsed.version, readings)
+    } else if content_type.starts_with("text/") {
+        let version = query.version.ok_or_else(|| {
+            AppError::invalid("version", "give the run version you loaded as ?version=N")
+        })?;
+        let text = std::str::from_utf8(&body)
+            .map_err(|_| AppError::BadRequest("the readings text is not UTF-8".to_owned()))?;
+        let readings = readings::parse(text)
+            .map_err(|e| AppError::invalid(format!("line {}", e.line), e.to_string()))?;
+        (version, readings)
+    } else {
+        return Err(AppError::BadRequest(
+            "send readings as application/json, or as text/csv, text/tab-separated-values or text/plain with a header row".to_owned(),
+        )
+        .into());
+    };
+    if readings.is_empty() {
+        return Err(AppError::invalid("readings", "no readings given").into());
+    }
+    let mut tx = store::begin_write(&state.db).await?;
+    let run = run_or_404(&mut tx, id).await?;
+    editable(&run, &caller, version)?;
+    if !runs::set_points(&mut tx, id)
+        .await?
+        .iter()
+        .any(|sp| sp.id == set_point_id)
+    {
+        return Err(AppError::NotFound(format!("run {id} has no set point {set_point_id}")).into());
+    }
+    let instrument = records::instrument_by_id(&mut tx, run.instrument_id)
+        .await?
+        .ok_or_else(|| AppError::Internal("instrument vanished".to_owned()))?;
+    check_readings(&readings, &instrument, &run.rj_method)?;
+    let total = runs::append_readings(&mut tx, set_point_id, &readings).await?;
+    runs::touch(&mut tx, id, run.version).await?;
+    let after = serde_json::json!({"set_point_id": set_point_id, "readings": readings});
+    record(
+        &mut tx,
+        &caller,
+        "add_readings",
+        "run",
+        &id.to_string(),
+        None,
+        Some(&after),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok((
+        StatusCode::CREATED,
+        Json(ReadingsAdded {
+            added: readings.len(),
+            total,
+            version: run.version + 1,
+        }),
+    ))
+}
+
+/// Body of a submission.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SubmitBody {
+    /// The run version the submission is based on.
+    pub version: i64,
+}
+
+/// `POST /api/v1/runs/{id}/submit`: hands the run to review; it is then
+/// read-only for its technician.
+pub async fn submit(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path(id): Path<i64>,
+    ApiJson(body): ApiJson<SubmitBody>,
+) -> ApiResult<Json<Run>> {
+    caller.may_change(RUN_ROLES, "submitting runs")?;
+    let mut tx = store::begin_write(&state.db).await?;
+    let run = run_or_404(&mut tx, id).await?;
+    editable(&run, &caller, body.version)?;
+    let set_points = runs::set_points(&mut tx, id).await?;
+    if set_points.is_empty() {
+        return Err(AppError::invalid(
+            "set_points",
+            format!("run {id} has no set points to submit"),
+        )
+        .into());
+    }
+    for sp in &set_points {
+        let n = runs::readings(&mut tx, sp.id).await?.len();
+        if n < 2 {
+            return Err(AppError::invalid(
+                "set_points",
+                format!("the set point at {} °C has {n} reading(s); at least 2 are needed for a Type A evaluation", sp.nominal_t_c),
+            )
+            .into());
+        }
+    }
+    runs::submit(&mut tx, id).await?;
+    let after = run_or_404(&mut tx, id).await?;
+    record(
+        &mut tx,
+        &caller,
+        "submit",
+        "run",
+        &id.to_string(),
+        Some(&json(&run)),
+        Some(&json(&after)),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok(Json(after))
+}
+
+/// Query of the impact search.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ImpactQuery {
+    /// Asset id of the equipment item.
+    pub asset_id: String,
+    /// First date (YYYY-MM-DD).
+    pub from: String,
+    /// Last date (YYYY-MM-DD).
+    pub to: String,
+}
+
+/// The runs affected by an equipment item.
+#[derive(Debug, Serialize)]
+pub struct Impact {
+    /// The item.
+    pub asset_id: String,
+    /// First date.
+    pub from: String,
+    /// Last date.
+    pub to: String,
+    /// Runs that used it, by date.
+    pub runs: Vec<Run>,
+}
+
+/// `GET /api/v1/impact?asset_id=..&from=..&to=..`: every run that used an
+/// equipment item (as reference, readout or medium) between two dates.
+pub async fn impact(
+    State(state): State<AppState>,
+    _caller: Caller,
+    crate::web::extract::ApiQuery(q): crate::web::extract::ApiQuery<ImpactQuery>,
+) -> ApiResult<Json<Impact>> {
+    let mut p = Problems::default();
+    check_date(&mut p, "from", &q.from);
+    check_date(&mut p, "to", &q.to);
+    if q.from > q.to {
+        p.add("to", "the last date comes before the first");
+    }
+    p.finish()?;
+    let mut conn = state.db.acquire().await?;
+    let item = equipment::by_asset_id(&mut conn, &q.asset_id)
+        .await?
+        .ok_or_else(|| {
+            AppError::NotFound(format!(
+                "there is no equipment with asset id {:?}",
+                q.asset_id
+            ))
+        })?;
+    let runs = runs::using_equipment(&mut conn, item.id, &q.from, &q.to).await?;
+    Ok(Json(Impact {
+        asset_id: q.asset_id,
+        from: q.from,
+        to: q.to,
+        runs,
+    }))
+}
