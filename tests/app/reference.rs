@@ -291,6 +291,26 @@ async fn the_openapi_document_lists_every_reference_endpoint(pool: SqlitePool) {
         let probe = crate::helpers::post_json(&app, path, &serde_json::json!({})).await;
         assert_ne!(probe.status, StatusCode::NOT_FOUND, "{path}");
     }
+    for (path, method) in [
+        ("/api/v1/customers", "post"),
+        ("/api/v1/instruments/{serial}", "get"),
+        ("/api/v1/equipment/{asset_id}/certificates", "post"),
+        (
+            "/api/v1/runs/{id}/set-points/{set_point_id}/readings",
+            "post",
+        ),
+        ("/api/v1/runs/{id}/submit", "post"),
+        ("/api/v1/impact", "get"),
+    ] {
+        assert!(
+            doc["paths"][path][method].is_object(),
+            "{method} {path} undocumented"
+        );
+        assert_eq!(
+            doc["paths"][path][method]["security"][0]["bearer"],
+            serde_json::json!([])
+        );
+    }
     // Every $ref resolves to a schema in components.
     let text = doc.to_string();
     for piece in text.split("\"$ref\":\"#/components/schemas/").skip(1) {

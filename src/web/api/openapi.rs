@@ -274,10 +274,184 @@ fn build() -> Value {
     })
 }
 
+/// Records routes: (path, method, summary, has JSON body, success status).
+const RECORD_ROUTES: &[(&str, &str, &str, bool, &str)] = &[
+    ("/api/v1/customers", "get", "List customers", false, "200"),
+    (
+        "/api/v1/customers",
+        "post",
+        "Register a customer (technician, reviewer, administrator; write scope)",
+        true,
+        "201",
+    ),
+    (
+        "/api/v1/customers/{id}",
+        "get",
+        "One customer",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/customers/{id}",
+        "put",
+        "Change a customer",
+        true,
+        "200",
+    ),
+    (
+        "/api/v1/instruments",
+        "get",
+        "List instruments (units under test)",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/instruments",
+        "post",
+        "Register an instrument: serial, kind (thermocouple with tc_type, prt with r0_ohm, sprt, indicating, switch), customer_id",
+        true,
+        "201",
+    ),
+    (
+        "/api/v1/instruments/{serial}",
+        "get",
+        "One instrument by serial number",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/equipment",
+        "get",
+        "The equipment register",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/equipment",
+        "post",
+        "Register a reference standard, readout or medium (reviewer, administrator)",
+        true,
+        "201",
+    ),
+    (
+        "/api/v1/equipment/{asset_id}",
+        "get",
+        "One item with its certificates and uncertainty tables",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/equipment/{asset_id}/status",
+        "put",
+        "Put an item in or out of service (a reason is required to take it out)",
+        true,
+        "200",
+    ),
+    (
+        "/api/v1/equipment/{asset_id}/certificates",
+        "post",
+        "Record a calibration certificate: number, issuer, dates, coefficients (cvd, its90, emf_deviation, correction, none) and expanded uncertainty by range",
+        true,
+        "201",
+    ),
+    (
+        "/api/v1/equipment/{asset_id}/characterisations",
+        "post",
+        "Record a medium's uniformity and stability by temperature range",
+        true,
+        "201",
+    ),
+    ("/api/v1/cmc", "get", "The lab's CMC table", false, "200"),
+    (
+        "/api/v1/cmc",
+        "post",
+        "Add a CMC row (administrator)",
+        true,
+        "201",
+    ),
+    (
+        "/api/v1/runs",
+        "get",
+        "List runs, newest first",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/runs",
+        "post",
+        "Start a run: the unit under test, reference, readouts, medium, date, procedure, conditions, reference-junction method, tolerance and decision rule (technician, administrator). Equipment out of service or past its due date on the run date is refused.",
+        true,
+        "201",
+    ),
+    (
+        "/api/v1/runs/{id}",
+        "get",
+        "A run with its set points and raw readings",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/runs/{id}/set-points",
+        "post",
+        "Add a set point: {nominal_t_c, version}",
+        true,
+        "201",
+    ),
+    (
+        "/api/v1/runs/{id}/set-points/{set_point_id}/readings",
+        "post",
+        "Add readings as JSON {version, readings:[{taken_at, reference_signal, uut_signal, rj_t_c}]} or as text/csv, text/tab-separated-values or text/plain with a header row (reference, uut, optional rj_t_c and time; decimal comma accepted with tab or semicolon separators) and ?version=N",
+        true,
+        "201",
+    ),
+    (
+        "/api/v1/runs/{id}/submit",
+        "post",
+        "Submit the run for review: {version}; it becomes read-only for its technician",
+        true,
+        "200",
+    ),
+    (
+        "/api/v1/impact",
+        "get",
+        "Every run that used an equipment item between two dates: ?asset_id=&from=YYYY-MM-DD&to=YYYY-MM-DD",
+        false,
+        "200",
+    ),
+];
+
+fn with_records(mut doc: Value) -> Value {
+    let problem =
+        json!({"application/problem+json": {"schema": {"$ref": "#/components/schemas/Problem"}}});
+    for (path, method, summary, has_body, ok) in RECORD_ROUTES {
+        let mut operation = json!({
+            "summary": summary,
+            "security": [{"bearer": []}],
+            "responses": {
+                *ok: {"description": "Done.", "content": {"application/json": {}}},
+                "401": {"description": "No token, or an unknown or revoked one.", "content": problem.clone()},
+                "403": {"description": "The token is read-only or the user's role may not do this.", "content": problem.clone()},
+                "404": {"description": "No such record.", "content": problem.clone()},
+                "409": {"description": "The record changed since it was loaded, is read-only, or the key is taken.", "content": problem.clone()},
+                "422": {"description": "Invalid input; `errors` names each field.", "content": problem.clone()}
+            }
+        });
+        if *has_body {
+            operation["requestBody"] = json!({"required": true, "content": {"application/json": {"schema": {"type": "object"}}}});
+        }
+        doc["paths"][*path][*method] = operation;
+    }
+    doc["components"]["securitySchemes"] = json!({
+        "bearer": {"type": "http", "scheme": "bearer",
+                   "description": "An API token from `juncture token create`; read scope for GET, write scope for changes."}
+    });
+    doc
+}
+
 /// The document, built once.
 pub fn spec() -> &'static Value {
     static SPEC: OnceLock<Value> = OnceLock::new();
-    SPEC.get_or_init(build)
+    SPEC.get_or_init(|| with_records(build()))
 }
 
 /// `GET /api/v1/openapi.json`.
