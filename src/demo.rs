@@ -1,10 +1,17 @@
 //! The demonstration laboratory: an invented lab with invented customers,
-//! instruments and serial numbers, for trying Juncture out. Nothing here
-//! describes a real organisation.
+//! instruments, equipment and serial numbers, for trying Juncture out.
+//! Nothing here describes a real organisation, and the demo accounts'
+//! shared password exists only in demo databases.
 
-use sqlx::SqlitePool;
+use serde_json::json;
+use sqlx::{SqliteConnection, SqlitePool};
 
-use crate::store::{self, lab::LabSettings};
+use crate::store::accounts::{self, Role};
+use crate::store::equipment::{
+    self as eq, CertificateFields, CertificateUncertainty, Characterisation, Cmc, EquipmentFields,
+};
+use crate::store::records::{self, CustomerFields, InstrumentFields};
+use crate::store::{self, audit, lab::LabSettings};
 
 /// Why the demo could not be loaded.
 #[derive(Debug, thiserror::Error)]
@@ -18,6 +25,9 @@ pub enum DemoError {
     /// A database error.
     #[error(transparent)]
     Db(#[from] sqlx::Error),
+    /// The demo accounts' password could not be hashed.
+    #[error("cannot hash the demo password: {0}")]
+    Hash(String),
 }
 
 /// Actor recorded in the audit trail for demo records.
@@ -25,6 +35,29 @@ pub const DEMO_ACTOR: &str = "demo loader";
 
 /// Name of the invented demonstration laboratory.
 pub const DEMO_LAB_NAME: &str = "Larchmere Thermal Metrology (demonstration)";
+
+/// Password of the demo accounts. It exists only in databases the demo
+/// created; a real lab adds its users with `juncture user add`.
+pub const DEMO_PASSWORD: &str = "juncture-demo";
+
+/// The demo accounts: (username, display name, role).
+pub const DEMO_USERS: [(&str, &str, Role); 3] = [
+    (
+        "demo-tech",
+        "Tamsin Hale (demo technician)",
+        Role::Technician,
+    ),
+    (
+        "demo-reviewer",
+        "Rowan Pike (demo reviewer)",
+        Role::Reviewer,
+    ),
+    (
+        "demo-admin",
+        "Ada Marsh (demo administrator)",
+        Role::Administrator,
+    ),
+];
 
 /// The demonstration laboratory's identity and settings.
 #[must_use]
@@ -44,6 +77,104 @@ pub fn demo_lab() -> LabSettings {
     }
 }
 
+async fn note(
+    conn: &mut SqliteConnection,
+    entity: &str,
+    id: &str,
+    after: serde_json::Value,
+) -> sqlx::Result<()> {
+    audit::append(
+        conn,
+        &audit::NewEvent {
+            actor: DEMO_ACTOR,
+            action: "create",
+            entity,
+            entity_id: id,
+            before: None,
+            after: Some(&after),
+        },
+    )
+    .await?;
+    Ok(())
+}
+
+struct Item<'a> {
+    asset_id: &'a str,
+    kind: &'a str,
+    description: &'a str,
+    manufacturer: &'a str,
+    model: &'a str,
+    tc_type: Option<&'a str>,
+    spec: Option<(&'a str, f64, f64, f64)>,
+}
+
+async fn item(conn: &mut SqliteConnection, i: Item<'_>) -> sqlx::Result<i64> {
+    let fields = EquipmentFields {
+        asset_id: i.asset_id.to_owned(),
+        kind: i.kind.to_owned(),
+        description: i.description.to_owned(),
+        manufacturer: i.manufacturer.to_owned(),
+        model: i.model.to_owned(),
+        serial: format!("{}-SN", i.asset_id),
+        firmware: if i.kind == "readout" {
+            "3.02".to_owned()
+        } else {
+            String::new()
+        },
+        location: "Larchmere main laboratory".to_owned(),
+        status: "in_service".to_owned(),
+        status_reason: String::new(),
+        tc_type: i.tc_type.map(str::to_owned),
+        spec_unit: i.spec.map(|s| s.0.to_owned()),
+        spec_offset: i.spec.map(|s| s.1),
+        spec_relative: i.spec.map(|s| s.2),
+        spec_resolution: i.spec.map(|s| s.3),
+    };
+    let created = eq::create(conn, &fields).await?;
+    note(
+        conn,
+        "equipment",
+        i.asset_id,
+        serde_json::to_value(&created).unwrap_or_default(),
+    )
+    .await?;
+    Ok(created.id)
+}
+
+async fn certificate(
+    conn: &mut SqliteConnection,
+    equipment_id: i64,
+    number: &str,
+    dates: (&str, &str),
+    coefficients: serde_json::Value,
+    uncertainties: &[(f64, f64, f64)],
+) -> sqlx::Result<()> {
+    let fields = CertificateFields {
+        number: number.to_owned(),
+        issuer: "Example National Standards Laboratory (invented)".to_owned(),
+        calibrated_on: dates.0.to_owned(),
+        due_on: dates.1.to_owned(),
+        coefficients: coefficients.to_string(),
+        uncertainties: uncertainties
+            .iter()
+            .map(|&(t_lo_c, t_hi_c, expanded_c)| CertificateUncertainty {
+                t_lo_c,
+                t_hi_c,
+                expanded_c,
+                k: 2.0,
+            })
+            .collect(),
+    };
+    let c = eq::add_certificate(conn, equipment_id, &fields).await?;
+    note(
+        conn,
+        "equipment_certificate",
+        &c.number,
+        serde_json::to_value(&c).unwrap_or_default(),
+    )
+    .await
+}
+
 /// Loads the demonstration laboratory into an empty, migrated database, in
 /// one transaction: either all of it is stored or nothing is.
 ///
@@ -51,25 +182,382 @@ pub fn demo_lab() -> LabSettings {
 /// [`DemoError::NotEmpty`] when a laboratory is already set up; any
 /// database error.
 pub async fn load(pool: &SqlitePool) -> Result<(), DemoError> {
+    // Hash before taking the write lock: argon2 is deliberately slow.
+    let password_hash = crate::web::auth::hash_password(DEMO_PASSWORD).map_err(DemoError::Hash)?;
     let mut tx = store::begin_write(pool).await?;
     if let Some(existing) = store::lab::get(&mut tx).await? {
         return Err(DemoError::NotEmpty(existing.name));
     }
     let lab = demo_lab();
     store::lab::put(&mut tx, &lab).await?;
-    let after = serde_json::to_value(&lab).unwrap_or_default();
-    store::audit::append(
+    note(
         &mut tx,
-        &store::audit::NewEvent {
-            actor: DEMO_ACTOR,
-            action: "create",
-            entity: "lab_settings",
-            entity_id: "1",
-            before: None,
-            after: Some(&after),
+        "lab_settings",
+        "1",
+        serde_json::to_value(&lab).unwrap_or_default(),
+    )
+    .await?;
+
+    for (username, display, role) in DEMO_USERS {
+        let id = accounts::create_user(&mut tx, username, display, role, &password_hash).await?;
+        note(
+            &mut tx,
+            "user",
+            &id.to_string(),
+            json!({"username": username, "role": role.as_str()}),
+        )
+        .await?;
+    }
+
+    // Reference standards, readouts and media (all invented).
+    let sprt = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-SPRT-01",
+            kind: "reference_sprt",
+            description: "25.5 Ω quartz-sheathed SPRT",
+            manufacturer: "Example Thermometry",
+            model: "QS-25",
+            tc_type: None,
+            spec: None,
         },
     )
     .await?;
+    certificate(&mut tx, sprt, "ENSL-26-0310", ("2026-03-10", "2028-03-10"),
+        json!({"form": "its90", "r_tpw_ohm": 25.546_91, "sub_range": "water-to-zinc", "a": -2.1e-5, "b": 1.4e-6}),
+        &[(0.0, 420.0, 0.003)]).await?;
+    let prt = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-PRT-02",
+            kind: "reference_prt",
+            description: "100 Ω reference PRT, 450 mm",
+            manufacturer: "Example Thermometry",
+            model: "RP-100",
+            tc_type: None,
+            spec: None,
+        },
+    )
+    .await?;
+    certificate(&mut tx, prt, "ENSL-26-0504", ("2026-05-04", "2027-05-04"),
+        json!({"form": "cvd", "r0_ohm": 100.0231, "a": 3.908_02e-3, "b": -5.7753e-7, "c": -4.1821e-12}),
+        &[(-80.0, 420.0, 0.015)]).await?;
+    let tcr = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-TCR-03",
+            kind: "reference_thermocouple",
+            description: "type R reference thermocouple, alumina sheath",
+            manufacturer: "Example Thermometry",
+            model: "R-600",
+            tc_type: Some("R"),
+            spec: None,
+        },
+    )
+    .await?;
+    certificate(
+        &mut tx,
+        tcr,
+        "ENSL-26-0220",
+        ("2026-02-20", "2027-02-20"),
+        json!({"form": "emf_deviation", "coefficients_mv": [0.0, 2.0e-6, -1.0e-9]}),
+        &[(0.0, 1100.0, 0.6)],
+    )
+    .await?;
+    let dig = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-DIG-04",
+            kind: "reference_indicating",
+            description: "digital reference thermometer with PRT probe",
+            manufacturer: "Example Instruments",
+            model: "DT-9",
+            tc_type: None,
+            spec: None,
+        },
+    )
+    .await?;
+    certificate(
+        &mut tx,
+        dig,
+        "ENSL-26-0615",
+        ("2026-06-15", "2027-06-15"),
+        json!({"form": "correction", "coefficients_c": [0.012, -1.0e-4]}),
+        &[(-30.0, 250.0, 0.03)],
+    )
+    .await?;
+    let bridge = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-BRG-05",
+            kind: "readout",
+            description: "resistance bridge",
+            manufacturer: "Example Instruments",
+            model: "RB-8",
+            tc_type: None,
+            spec: Some(("ohm", 0.0002, 2e-6, 0.00001)),
+        },
+    )
+    .await?;
+    certificate(
+        &mut tx,
+        bridge,
+        "EEL-26-1102",
+        ("2026-04-02", "2027-04-02"),
+        json!({"form": "none"}),
+        &[],
+    )
+    .await?;
+    let dmm = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-DMM-06",
+            kind: "readout",
+            description: "8½-digit voltmeter for thermocouples",
+            manufacturer: "Example Instruments",
+            model: "DV-85",
+            tc_type: None,
+            spec: Some(("mV", 0.002, 20e-6, 0.0001)),
+        },
+    )
+    .await?;
+    certificate(
+        &mut tx,
+        dmm,
+        "EEL-26-1103",
+        ("2026-04-02", "2027-04-02"),
+        json!({"form": "none"}),
+        &[],
+    )
+    .await?;
+    let bath = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-BATH-07",
+            kind: "bath",
+            description: "stirred silicone-oil bath",
+            manufacturer: "Example Baths",
+            model: "SB-30",
+            tc_type: None,
+            spec: None,
+        },
+    )
+    .await?;
+    let furnace = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-FURN-08",
+            kind: "furnace",
+            description: "horizontal tube furnace with equalising block",
+            manufacturer: "Example Furnaces",
+            model: "TF-12",
+            tc_type: None,
+            spec: None,
+        },
+    )
+    .await?;
+    let block = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-DRY-09",
+            kind: "dry_block",
+            description: "Peltier dry-block calibrator",
+            manufacturer: "Example Instruments",
+            model: "PB-140",
+            tc_type: None,
+            spec: None,
+        },
+    )
+    .await?;
+    for (id, ranges) in [
+        (
+            bath,
+            vec![(-30.0, 100.0, 0.005, 0.003), (100.0, 200.0, 0.008, 0.004)],
+        ),
+        (
+            furnace,
+            vec![(300.0, 800.0, 0.4, 0.1), (800.0, 1200.0, 0.6, 0.15)],
+        ),
+        (block, vec![(-25.0, 140.0, 0.03, 0.01)]),
+    ] {
+        for (t_lo_c, t_hi_c, uniformity_half_width_c, stability_half_width_c) in ranges {
+            let c = Characterisation {
+                characterised_on: "2026-09-01".to_owned(),
+                t_lo_c,
+                t_hi_c,
+                uniformity_half_width_c,
+                stability_half_width_c,
+            };
+            eq::add_characterisation(&mut tx, id, &c).await?;
+        }
+    }
+    // One readout out of service and one reference past its due date, so
+    // the blocks can be seen.
+    let spare = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-DMM-10",
+            kind: "readout",
+            description: "spare voltmeter",
+            manufacturer: "Example Instruments",
+            model: "DV-65",
+            tc_type: None,
+            spec: Some(("mV", 0.004, 30e-6, 0.001)),
+        },
+    )
+    .await?;
+    certificate(
+        &mut tx,
+        spare,
+        "EEL-26-0107",
+        ("2026-01-07", "2027-01-07"),
+        json!({"form": "none"}),
+        &[],
+    )
+    .await?;
+    eq::set_status(
+        &mut tx,
+        spare,
+        "out_of_service",
+        "failed its intermediate check on 2026-11-03",
+    )
+    .await?;
+    let old = item(
+        &mut tx,
+        Item {
+            asset_id: "LTM-PRT-11",
+            kind: "reference_prt",
+            description: "working reference PRT awaiting recalibration",
+            manufacturer: "Example Thermometry",
+            model: "RP-100",
+            tc_type: None,
+            spec: None,
+        },
+    )
+    .await?;
+    certificate(
+        &mut tx,
+        old,
+        "ENSL-25-0930",
+        ("2025-09-30", "2026-10-01"),
+        json!({"form": "cvd", "r0_ohm": 99.9874, "a": 3.9083e-3, "b": -5.775e-7, "c": -4.183e-12}),
+        &[(-80.0, 250.0, 0.02)],
+    )
+    .await?;
+
+    for (kind, t_lo_c, t_hi_c, expanded_c) in [
+        ("thermocouple", 0.0, 1100.0, 0.6),
+        ("prt", -30.0, 250.0, 0.02),
+        ("indicating", -30.0, 250.0, 0.03),
+    ] {
+        let row = Cmc {
+            instrument_kind: kind.to_owned(),
+            t_lo_c,
+            t_hi_c,
+            expanded_c,
+        };
+        eq::add_cmc(&mut tx, &row).await?;
+        note(
+            &mut tx,
+            "cmc",
+            kind,
+            serde_json::to_value(&row).unwrap_or_default(),
+        )
+        .await?;
+    }
+
+    // Customers and their instruments (invented).
+    let customers = [
+        (
+            "Brackenridge Foods Ltd (invented)",
+            "qa@brackenridge.invalid",
+        ),
+        (
+            "Corrow Valley Water Authority (invented)",
+            "metrology@corrow.invalid",
+        ),
+        (
+            "Peregrine Aero Components (invented)",
+            "calibration@peregrine.invalid",
+        ),
+    ];
+    let mut customer_ids = Vec::new();
+    for (name, email) in customers {
+        let c = records::create_customer(
+            &mut tx,
+            &CustomerFields {
+                name: name.to_owned(),
+                address: String::new(),
+                contact_email: email.to_owned(),
+                contact_phone: String::new(),
+            },
+        )
+        .await?;
+        note(
+            &mut tx,
+            "customer",
+            &c.id.to_string(),
+            serde_json::to_value(&c).unwrap_or_default(),
+        )
+        .await?;
+        customer_ids.push(c.id);
+    }
+    for (serial, kind, tc_type, r0, description, owner) in [
+        (
+            "BRF-TC-0412",
+            "thermocouple",
+            Some("N"),
+            None,
+            "type N mineral-insulated thermocouple, 6 mm x 1000 mm",
+            0,
+        ),
+        (
+            "CVW-PT-1187",
+            "prt",
+            None,
+            Some(100.0),
+            "Pt100 class A, 4-wire, 6 mm x 300 mm",
+            1,
+        ),
+        (
+            "PAC-DT-0093",
+            "indicating",
+            None,
+            None,
+            "handheld digital thermometer with probe, 0.01 °C resolution",
+            2,
+        ),
+        (
+            "PAC-TC-2210",
+            "thermocouple",
+            Some("K"),
+            None,
+            "type K probe with miniature connector",
+            2,
+        ),
+    ] {
+        let i = records::create_instrument(
+            &mut tx,
+            &InstrumentFields {
+                serial: serial.to_owned(),
+                kind: kind.to_owned(),
+                tc_type: tc_type.map(str::to_owned),
+                r0_ohm: r0,
+                description: description.to_owned(),
+                manufacturer: "Example Sensors".to_owned(),
+                model: String::new(),
+                customer_id: customer_ids[owner],
+            },
+        )
+        .await?;
+        note(
+            &mut tx,
+            "instrument",
+            serial,
+            serde_json::to_value(&i).unwrap_or_default(),
+        )
+        .await?;
+    }
     tx.commit().await?;
     Ok(())
 }

@@ -5,3 +5,4 @@
 
 pub mod coefficients;
 pub mod readings;
+pub mod results;

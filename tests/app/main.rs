@@ -8,4 +8,5 @@ mod foundation;
 mod helpers;
 mod records;
 mod reference;
+mod results;
 mod smoke;

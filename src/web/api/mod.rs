@@ -6,6 +6,7 @@ pub mod health;
 pub mod openapi;
 pub mod records;
 pub mod reference;
+pub mod results;
 pub mod runs;
 
 use axum::Router;
@@ -71,5 +72,6 @@ pub fn routes() -> Router<AppState> {
             post(runs::add_readings),
         )
         .route("/api/v1/runs/{id}/submit", post(runs::submit))
+        .route("/api/v1/runs/{id}/results", get(results::get))
         .route("/api/v1/impact", get(runs::impact))
 }

@@ -140,17 +140,7 @@ pub struct RunBody {
     pub extra_budget: Vec<ExtraBudgetRow>,
 }
 
-/// A lab-entered budget row (immersion, self-heating, inhomogeneity, ...).
-#[derive(Debug, Clone, Serialize, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub struct ExtraBudgetRow {
-    /// Name.
-    pub name: String,
-    /// rectangular, triangular, u_shaped or normal.
-    pub distribution: String,
-    /// Half-width (or, for normal, the standard uncertainty), °C.
-    pub value_c: f64,
-}
+pub use crate::domain::results::ExtraBudgetRow;
 
 fn as_found() -> String {
     "as_found".to_owned()
