@@ -441,6 +441,29 @@ impl SprtSubRange {
         }
     }
 
+    /// Whether the sub-range lies wholly at or above 0 °C, where eq. (10a)
+    /// applies throughout (including 273.15 K to 273.16 K).
+    fn above_water_only(&self) -> bool {
+        !matches!(
+            self,
+            SprtSubRange::ArgonToWater { .. } | SprtSubRange::MercuryToGallium { .. }
+        )
+    }
+
+    /// The reference function W_r(T90) (with its derivative) for this
+    /// sub-range: eq. (10a) for the sub-ranges from 0 °C up, otherwise eq.
+    /// (9a) up to 273.16 K and eq. (10a) above.
+    ///
+    /// # Reference
+    /// ITS-90 (Metrologia 27 (1990) 3-10), sections 3.3.1 and 3.3.2.
+    fn reference_function(&self) -> fn(f64) -> (f64, f64) {
+        if self.above_water_only() {
+            high_eval
+        } else {
+            wr_eval
+        }
+    }
+
     /// Plain name of the sub-range, e.g. "water-to-aluminium".
     ///
     /// # Reference
@@ -578,7 +601,8 @@ impl Sprt {
         let w = r / self.r_tpw;
         let (dev, slope) = sr.deviation_with_derivative(w);
         let wr = w - dev;
-        let (wr_lo, wr_hi) = (wr_eval(lo_k).0, wr_eval(hi_k).0);
+        let eval = sr.reference_function();
+        let (wr_lo, wr_hi) = (eval(lo_k).0, eval(hi_k).0);
         if !wr.is_finite() {
             return Err(range_error(
                 &format!("{}, in terms of W_r,", sr.label()),
@@ -599,7 +623,12 @@ impl Sprt {
                 ),
             });
         }
-        let t = t90_from_wr(wr).map_err(|err| match err {
+        let solved = if sr.above_water_only() {
+            t90_from_wr_high(wr)
+        } else {
+            t90_from_wr(wr)
+        };
+        let t = solved.map_err(|err| match err {
             ThermoError::OutOfRange { .. } => range_error(
                 &format!("{}, in terms of W_r,", sr.label()),
                 "W_r",
@@ -629,7 +658,7 @@ impl Sprt {
         if t < lo_k - SUBRANGE_LIMIT_ALLOWANCE_K || t > hi_k + SUBRANGE_LIMIT_ALLOWANCE_K {
             return Err(self.temperature_range_error(t));
         }
-        let target = wr_eval(t).0;
+        let target = (sr.reference_function())(t).0;
         solve_increasing(
             |w| {
                 let (dev, slope) = sr.deviation_with_derivative(w);
@@ -973,12 +1002,18 @@ mod tests {
         let t = sprt.temperature(r_ice).unwrap();
         assert!((t.t90_k - 273.15).abs() < 1e-6, "{t:?}");
         assert!(t.t90_c.abs() < 1e-6);
-        // About 25 mK below the ice point: outside the sub-range.
+        // About 25 mK below the ice point: outside the sub-range, whose
+        // W_r runs from W_r(273.15 K) = 0.9999601 (ITS-90 Table 1 region).
         let err = sprt.temperature(r_ice * (1.0 - 1.0e-4)).unwrap_err();
         assert!(
-            err.to_string().contains("defined from 0 °C to 231.928 °C"),
+            err.to_string()
+                .contains("water-to-tin sub-range, in terms of W_r, is defined from 0.9999601"),
             "{err}"
         );
+        // Between 0 °C and 0.01 °C the sub-range uses eq. (10a), so forward
+        // and inverse agree there to the solver tolerance.
+        let r_mid = sprt.resistance(273.155).unwrap();
+        assert!((sprt.temperature(r_mid).unwrap().t90_k - 273.155).abs() < 1e-9);
     }
 
     #[test]
