@@ -558,6 +558,249 @@ pub async fn load(pool: &SqlitePool) -> Result<(), DemoError> {
         )
         .await?;
     }
+    demo_runs(&mut tx).await?;
     tx.commit().await?;
+    Ok(())
+}
+
+/// A small deterministic scatter pattern for invented readings.
+const SCATTER: [f64; 6] = [0.0, 0.6, -0.4, 0.3, -0.5, 0.1];
+
+async fn id_of(conn: &mut SqliteConnection, asset_id: &str) -> sqlx::Result<i64> {
+    eq::by_asset_id(conn, asset_id)
+        .await?
+        .map(|e| e.id)
+        .ok_or(sqlx::Error::RowNotFound)
+}
+
+/// A set point with its readings: (reference signal, UUT signal, t_rj).
+type DemoPoint = (f64, Vec<(f64, f64, Option<f64>)>);
+
+struct DemoRun<'a> {
+    serial: &'a str,
+    reference: &'a str,
+    reference_readout: Option<&'a str>,
+    uut_readout: Option<&'a str>,
+    medium: &'a str,
+    date: &'a str,
+    procedure: &'a str,
+    rj_method: &'a str,
+    tolerance_class: Option<&'a str>,
+    tolerance_limit_c: Option<f64>,
+    decision_rule: &'a str,
+    extra: serde_json::Value,
+    /// (set point, readings (reference, uut, rj))
+    points: Vec<DemoPoint>,
+    submit: bool,
+}
+
+async fn demo_run(
+    conn: &mut SqliteConnection,
+    technician: i64,
+    r: DemoRun<'_>,
+) -> sqlx::Result<()> {
+    let instrument = records::instrument_by_serial(conn, r.serial)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
+    let reference_readout_id = match r.reference_readout {
+        Some(a) => Some(id_of(conn, a).await?),
+        None => None,
+    };
+    let uut_readout_id = match r.uut_readout {
+        Some(a) => Some(id_of(conn, a).await?),
+        None => None,
+    };
+    let fields = store::runs::RunFields {
+        instrument_id: instrument.id,
+        reference_id: id_of(conn, r.reference).await?,
+        reference_readout_id,
+        uut_readout_id,
+        medium_id: Some(id_of(conn, r.medium).await?),
+        performed_on: r.date.to_owned(),
+        procedure_ref: r.procedure.to_owned(),
+        location: "Larchmere main laboratory".to_owned(),
+        ambient_t_c: Some(21.8),
+        ambient_rh_percent: Some(43.0),
+        rj_method: r.rj_method.to_owned(),
+        immersion_mm: Some(200.0),
+        condition: "as_found".to_owned(),
+        decision_rule: r.decision_rule.to_owned(),
+        guard_band_factor: 1.0,
+        tolerance_class: r.tolerance_class.map(str::to_owned),
+        tolerance_limit_c: r.tolerance_limit_c,
+        fit_degree: None,
+        extra_budget: r.extra.to_string(),
+    };
+    let run = store::runs::create(conn, &fields, technician).await?;
+    note(
+        conn,
+        "run",
+        &run.id.to_string(),
+        serde_json::to_value(&run).unwrap_or_default(),
+    )
+    .await?;
+    for (t, readings) in r.points {
+        let sp = store::runs::add_set_point(conn, run.id, t).await?;
+        let rows: Vec<store::runs::Reading> = readings
+            .iter()
+            .enumerate()
+            .map(
+                |(i, &(reference_signal, uut_signal, rj_t_c))| store::runs::Reading {
+                    position: 0,
+                    taken_at: Some(format!(
+                        "{}T{:02}:{:02}:00Z",
+                        r.date,
+                        9 + (t.abs() as usize / 100) % 8,
+                        (i * 2) % 60
+                    )),
+                    reference_signal,
+                    uut_signal,
+                    rj_t_c,
+                },
+            )
+            .collect();
+        store::runs::append_readings(conn, sp.id, &rows).await?;
+        note(
+            conn,
+            "run",
+            &run.id.to_string(),
+            json!({"set_point": t, "readings": rows.len()}),
+        )
+        .await?;
+    }
+    if r.submit {
+        store::runs::submit(conn, run.id).await?;
+        audit::append(
+            conn,
+            &audit::NewEvent {
+                actor: DEMO_ACTOR,
+                action: "submit",
+                entity: "run",
+                entity_id: &run.id.to_string(),
+                before: None,
+                after: None,
+            },
+        )
+        .await?;
+    }
+    Ok(())
+}
+
+/// Three runs with invented readings, generated from the reference
+/// functions so that the numbers are physically consistent.
+async fn demo_runs(conn: &mut SqliteConnection) -> sqlx::Result<()> {
+    use crate::metrology::thermo::{CvdCoefficients, Sprt, ThermocoupleType};
+    let bad =
+        |e: crate::metrology::thermo::ThermoError| sqlx::Error::Protocol(format!("demo data: {e}"));
+    let technician = accounts::user_by_username(conn, "demo-tech")
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?
+        .id;
+
+    // 1. Pt100 against the SPRT in the oil bath (submitted for review).
+    let sprt = Sprt::new(
+        25.546_91,
+        crate::metrology::thermo::SprtSubRange::WaterToZinc {
+            a: -2.1e-5,
+            b: 1.4e-6,
+        },
+    )
+    .map_err(bad)?;
+    let pt100 = CvdCoefficients::pt100();
+    let mut points = Vec::new();
+    for t in [0.0, 50.0, 100.0, 150.0] {
+        let mut readings = Vec::new();
+        for (i, s) in SCATTER.iter().enumerate() {
+            let actual = t + 0.004 * s + 0.001 * i as f64;
+            let r_ref = sprt.resistance(actual + 273.15).map_err(bad)?;
+            // The customer's Pt100 reads 0.03 °C to 0.05 °C high (invented).
+            let r_uut = pt100
+                .resistance(actual + 0.03 + 0.00013 * t + 0.002 * s)
+                .map_err(bad)?;
+            readings.push((
+                (r_ref * 1e5).round() / 1e5,
+                (r_uut * 1e4).round() / 1e4,
+                None,
+            ));
+        }
+        points.push((t, readings));
+    }
+    demo_run(
+        conn,
+        technician,
+        DemoRun {
+            serial: "CVW-PT-1187",
+            reference: "LTM-SPRT-01",
+            reference_readout: Some("LTM-BRG-05"),
+            uut_readout: Some("LTM-BRG-05"),
+            medium: "LTM-BATH-07",
+            date: "2026-11-18",
+            procedure: "LTM-P-04 rev 3 (PRT by comparison)",
+            rj_method: "not_applicable",
+            tolerance_class: Some("A"),
+            tolerance_limit_c: None,
+            decision_rule: "guarded_non_binary",
+            extra: json!([{"name": "immersion", "distribution": "rectangular", "value_c": 0.005},
+                      {"name": "self-heating", "distribution": "rectangular", "value_c": 0.003}]),
+            points,
+            submit: true,
+        },
+    )
+    .await?;
+
+    // 2. Type N thermocouple against the type R reference in the furnace.
+    let (n, r) = (ThermocoupleType::N, ThermocoupleType::R);
+    let mut points = Vec::new();
+    for t in [400.0, 600.0, 800.0, 1000.0] {
+        let mut readings = Vec::new();
+        for s in SCATTER.iter().take(5) {
+            let actual = t - 1.2 + 0.05 * s;
+            let e_ref = r.emf(actual).map_err(bad)? + 2.0e-6 * actual - 1.0e-9 * actual * actual;
+            // The customer's type N reads about 1.1 °C to 2.4 °C high (invented drift).
+            let e_uut = n
+                .emf(actual + 1.1 + 0.0013 * (t - 400.0) + 0.03 * s)
+                .map_err(bad)?;
+            readings.push((
+                (e_ref * 1e4).round() / 1e4,
+                (e_uut * 1e4).round() / 1e4,
+                None,
+            ));
+        }
+        points.push((t, readings));
+    }
+    demo_run(conn, technician, DemoRun {
+        serial: "BRF-TC-0412", reference: "LTM-TCR-03", reference_readout: Some("LTM-DMM-06"), uut_readout: Some("LTM-DMM-06"),
+        medium: "LTM-FURN-08", date: "2026-11-24", procedure: "LTM-P-09 rev 1 (thermocouples in the tube furnace)", rj_method: "ice_point",
+        tolerance_class: Some("2"), tolerance_limit_c: None, decision_rule: "simple",
+        extra: json!([{"name": "ice point", "distribution": "rectangular", "value_c": 0.02, "kind": "reference_junction"},
+                      {"name": "inhomogeneity", "distribution": "rectangular", "value_c": 0.3}]),
+        points, submit: false,
+    }).await?;
+
+    // 3. Handheld digital thermometer against the digital reference in the
+    //    Peltier dry block.
+    let mut points = Vec::new();
+    for t in [-20.0, 0.0, 50.0, 120.0] {
+        let mut readings = Vec::new();
+        for s in SCATTER {
+            let actual: f64 = t + 0.01 * s;
+            // The reference indicates t - c(t); the handheld reads 0.04 °C to 0.12 °C low.
+            let indication = actual - 0.012 + 1.0e-4 * actual;
+            let uut = actual - 0.04 - 0.0006 * t.abs() + 0.01 * s;
+            readings.push((
+                (indication * 1e3).round() / 1e3,
+                (uut * 1e2).round() / 1e2,
+                None,
+            ));
+        }
+        points.push((t, readings));
+    }
+    demo_run(conn, technician, DemoRun {
+        serial: "PAC-DT-0093", reference: "LTM-DIG-04", reference_readout: None, uut_readout: None,
+        medium: "LTM-DRY-09", date: "2026-11-26", procedure: "LTM-P-02 rev 5 (indicating thermometers)", rj_method: "not_applicable",
+        tolerance_class: None, tolerance_limit_c: Some(0.2), decision_rule: "guarded_non_binary",
+        extra: json!([{"name": "display resolution", "distribution": "rectangular", "value_c": 0.01, "kind": "uut_resolution"}]),
+        points, submit: false,
+    }).await?;
     Ok(())
 }

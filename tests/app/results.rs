@@ -594,3 +594,60 @@ async fn results_refuse_a_set_point_outside_the_medium_characterisation(pool: Sq
         "BATH-01 is characterised from -40 °C to 200 °C; the set point 240 °C lies outside"
     );
 }
+
+#[sqlx::test]
+async fn the_demo_runs_have_results_at_once(pool: SqlitePool) {
+    juncture::demo::load(&pool).await.expect("demo loads");
+    let reader = token_for(&pool, "demo-reader", Role::Technician, Scope::Read).await;
+    let app = crate::helpers::app(pool);
+    let runs = ok(
+        &call(&app, "GET", "/api/v1/runs", Some(&reader), None).await,
+        StatusCode::OK,
+    );
+    let runs = runs.as_array().expect("runs");
+    assert_eq!(runs.len(), 3);
+    for run in runs {
+        let res = ok(
+            &call(
+                &app,
+                "GET",
+                &format!("/api/v1/runs/{}/results", run["id"]),
+                Some(&reader),
+                None,
+            )
+            .await,
+            StatusCode::OK,
+        );
+        assert_eq!(
+            res["set_points"].as_array().expect("set points").len(),
+            4,
+            "{res}"
+        );
+        assert!(
+            res["deviation_function"]["coefficients"].is_array(),
+            "{res}"
+        );
+    }
+    // The demo Pt100 was invented to read 0.03 °C + 0.00013·t high: about
+    // 0.043 °C at 100 °C (readings rounded to 0.1 mΩ, i.e. 0.3 mK).
+    let pt = runs
+        .iter()
+        .find(|r| r["status"] == "submitted")
+        .expect("submitted run");
+    let res = ok(
+        &call(
+            &app,
+            "GET",
+            &format!("/api/v1/runs/{}/results", pt["id"]),
+            Some(&reader),
+            None,
+        )
+        .await,
+        StatusCode::OK,
+    );
+    let at100 = &res["set_points"][2];
+    assert!(
+        (num(&at100["mean_deviation_c"]) - 0.043).abs() < 0.001,
+        "{at100}"
+    );
+}

@@ -99,10 +99,12 @@ const HIGH_RANGE_MIN_K: f64 = 273.15;
 const WR_TOLERANCE: f64 = 1e-13;
 
 /// Allowance beyond the limits of an SPRT sub-range, K. No published source. Common practice:
-/// a reading taken at the limiting fixed point itself belongs to the sub-range, so its scatter
-/// must not get it refused; 1 mK is this project's choice, well above that scatter. Anything
-/// further outside is refused.
-pub const SUBRANGE_LIMIT_ALLOWANCE_K: f64 = 0.001;
+/// a comparison at a limit (an ice bath at 0 °C, a bath at the gallium point) scatters by a
+/// few millikelvin around it and belongs to the sub-range. 10 mK is this project's choice:
+/// extrapolating the deviation function that far changes W by well under 1e-8 for
+/// coefficients of the usual size (|a|, |b| < 1e-3), i.e. under 3 µK. Anything further
+/// outside is refused.
+pub const SUBRANGE_LIMIT_ALLOWANCE_K: f64 = 0.01;
 
 /// A temperature on ITS-90 in kelvin and in degrees Celsius (T90 = t90 + 273.15).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -223,6 +225,16 @@ pub fn wr(t90_k: f64) -> ThermoResult<f64> {
         "the ITS-90 SPRT reference functions",
     )?;
     Ok(wr_eval(t).0)
+}
+
+/// Eq. (10a) from 273.15 K up; below it (only within a sub-range's
+/// allowance) eq. (9a), as the general inverse does.
+fn high_eval_from_ice_point(t: f64) -> (f64, f64) {
+    if t >= HIGH_RANGE_MIN_K {
+        high_eval(t)
+    } else {
+        wr_eval(t)
+    }
 }
 
 fn wr_eval(t: f64) -> (f64, f64) {
@@ -458,7 +470,7 @@ impl SprtSubRange {
     /// ITS-90 (Metrologia 27 (1990) 3-10), sections 3.3.1 and 3.3.2.
     fn reference_function(&self) -> fn(f64) -> (f64, f64) {
         if self.above_water_only() {
-            high_eval
+            high_eval_from_ice_point
         } else {
             wr_eval
         }
@@ -623,7 +635,10 @@ impl Sprt {
                 ),
             });
         }
-        let solved = if sr.above_water_only() {
+        // Below W_r(273.15 K) (within the allowance) eq. (10a) is not
+        // defined; the general inverse then gives the temperature, which the
+        // range check below accepts or refuses.
+        let solved = if sr.above_water_only() && wr >= high_domain().0 {
             t90_from_wr_high(wr)
         } else {
             t90_from_wr(wr)
@@ -1002,14 +1017,17 @@ mod tests {
         let t = sprt.temperature(r_ice).unwrap();
         assert!((t.t90_k - 273.15).abs() < 1e-6, "{t:?}");
         assert!(t.t90_c.abs() < 1e-6);
-        // About 25 mK below the ice point: outside the sub-range, whose
-        // W_r runs from W_r(273.15 K) = 0.9999601 (ITS-90 Table 1 region).
+        // About 25 mK below the ice point: outside the sub-range and its
+        // 10 mK allowance.
         let err = sprt.temperature(r_ice * (1.0 - 1.0e-4)).unwrap_err();
         assert!(
             err.to_string()
-                .contains("water-to-tin sub-range, in terms of W_r, is defined from 0.9999601"),
+                .contains("defined from 0 °C to 231.928 °C; got -0.02"),
             "{err}"
         );
+        // 2 mK below the ice point: inside the allowance.
+        let r_cold = sprt.resistance(273.148).unwrap();
+        assert!((sprt.temperature(r_cold).unwrap().t90_k - 273.148).abs() < 1e-6);
         // Between 0 °C and 0.01 °C the sub-range uses eq. (10a), so forward
         // and inverse agree there to the solver tolerance.
         let r_mid = sprt.resistance(273.155).unwrap();
