@@ -466,6 +466,51 @@ pub async fn load(pool: &SqlitePool) -> Result<(), DemoError> {
         .await?;
     }
 
+    // Budget rows the lab enters per kind of unit under test (values
+    // invented for the demo; a real lab takes them from its procedures).
+    let row = |name: &str, distribution: &str, value_c: f64, kind: &str| {
+        crate::domain::results::ExtraBudgetRow {
+            name: name.to_owned(),
+            distribution: distribution.to_owned(),
+            value_c,
+            kind: kind.to_owned(),
+        }
+    };
+    for (kind, rows) in [
+        (
+            "thermocouple",
+            vec![
+                row("ice point", "rectangular", 0.02, "reference_junction"),
+                row("inhomogeneity", "rectangular", 0.3, "custom"),
+            ],
+        ),
+        (
+            "prt",
+            vec![
+                row("immersion", "rectangular", 0.005, "custom"),
+                row("self-heating", "rectangular", 0.003, "custom"),
+            ],
+        ),
+        (
+            "indicating",
+            vec![row(
+                "display resolution",
+                "rectangular",
+                0.01,
+                "uut_resolution",
+            )],
+        ),
+    ] {
+        store::templates::replace(&mut tx, kind, &rows).await?;
+        note(
+            &mut tx,
+            "budget_template",
+            kind,
+            serde_json::to_value(&rows).unwrap_or_default(),
+        )
+        .await?;
+    }
+
     // Customers and their instruments (invented).
     let customers = [
         (

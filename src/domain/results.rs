@@ -46,7 +46,7 @@ fn records_error(field: &str, message: impl Into<String>) -> ResultsError {
     }
 }
 
-/// A lab-entered budget row stored with the run.
+/// A lab-entered budget row stored with the run (or a budget template).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct ExtraBudgetRow {

@@ -688,3 +688,92 @@ async fn bad_records_get_field_errors_and_store_nothing(pool: SqlitePool) {
     assert_eq!(certificates, 2);
     let _ = store::schema_version(&pool).await.expect("schema");
 }
+
+#[sqlx::test]
+async fn a_new_run_takes_the_budget_template_of_its_kind(pool: SqlitePool) {
+    let lab = lab(pool).await;
+    customer_and_instrument(&lab).await;
+    let rows = json!({"rows": [
+        {"name": "immersion", "distribution": "rectangular", "value_c": 0.005},
+        {"name": "self-heating", "distribution": "rectangular", "value_c": 0.003}]});
+    let refused = call(
+        &lab.app,
+        "PUT",
+        "/api/v1/budget-templates/prt",
+        Some(&lab.tech),
+        Some(rows.clone()),
+    )
+    .await;
+    assert_eq!(refused.status, StatusCode::FORBIDDEN);
+    ok(
+        &call(
+            &lab.app,
+            "PUT",
+            "/api/v1/budget-templates/prt",
+            Some(&lab.reviewer),
+            Some(rows),
+        )
+        .await,
+        StatusCode::OK,
+    );
+    let bad = call(
+        &lab.app,
+        "PUT",
+        "/api/v1/budget-templates/prt",
+        Some(&lab.reviewer),
+        Some(json!({"rows": [{"name": "x", "distribution": "gaussian", "value_c": 0.1}]})),
+    )
+    .await;
+    assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(bad.json()["errors"][0]["field"], "rows[0]");
+    let unknown = call(
+        &lab.app,
+        "GET",
+        "/api/v1/budget-templates/kettle",
+        Some(&lab.reader),
+        None,
+    )
+    .await;
+    assert_eq!(unknown.status, StatusCode::NOT_FOUND);
+    let template = ok(
+        &call(
+            &lab.app,
+            "GET",
+            "/api/v1/budget-templates/prt",
+            Some(&lab.reader),
+            None,
+        )
+        .await,
+        StatusCode::OK,
+    );
+    assert_eq!(template["rows"][1]["name"], "self-heating");
+
+    let run = ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/runs",
+            Some(&lab.tech),
+            Some(run_body("2026-11-20")),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let stored: Value =
+        serde_json::from_str(run["extra_budget"].as_str().expect("text")).expect("json");
+    assert_eq!(stored, template["rows"]);
+    // Rows given with the run replace the template.
+    let mut own = run_body("2026-11-21");
+    own["extra_budget"] =
+        json!([{"name": "stem conduction", "distribution": "triangular", "value_c": 0.01}]);
+    let run = ok(
+        &call(&lab.app, "POST", "/api/v1/runs", Some(&lab.tech), Some(own)).await,
+        StatusCode::CREATED,
+    );
+    assert!(
+        run["extra_budget"]
+            .as_str()
+            .expect("text")
+            .contains("stem conduction")
+    );
+}

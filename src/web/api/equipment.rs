@@ -606,3 +606,78 @@ pub async fn add_cmc(
     tx.commit().await?;
     Ok((StatusCode::CREATED, Json(row)))
 }
+
+/// A kind's budget template.
+#[derive(Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TemplateBody {
+    /// The rows, in order.
+    pub rows: Vec<crate::domain::results::ExtraBudgetRow>,
+}
+
+fn check_kind(kind: &str) -> Result<(), AppError> {
+    if super::records::INSTRUMENT_KINDS
+        .split(", ")
+        .any(|k| k == kind)
+    {
+        Ok(())
+    } else {
+        Err(AppError::NotFound(format!(
+            "there is no instrument kind {kind:?}; expected one of {}",
+            super::records::INSTRUMENT_KINDS
+        )))
+    }
+}
+
+/// `GET /api/v1/budget-templates/{kind}`.
+pub async fn get_template(
+    State(state): State<AppState>,
+    _caller: Caller,
+    Path(kind): Path<String>,
+) -> ApiResult<Json<TemplateBody>> {
+    check_kind(&kind)?;
+    let mut conn = state.db.acquire().await?;
+    Ok(Json(TemplateBody {
+        rows: store::templates::rows(&mut conn, &kind).await?,
+    }))
+}
+
+/// `PUT /api/v1/budget-templates/{kind}`: replaces the kind's rows.
+pub async fn put_template(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path(kind): Path<String>,
+    ApiJson(body): ApiJson<TemplateBody>,
+) -> ApiResult<Json<TemplateBody>> {
+    caller.may_change(REGISTER_ROLES, "changing budget templates")?;
+    check_kind(&kind)?;
+    let mut p = Problems::default();
+    for (i, row) in body.rows.iter().enumerate() {
+        p.text(&format!("rows[{i}].name"), &row.name);
+        if let Err(e) = row.item() {
+            p.add(&format!("rows[{i}]"), e);
+        }
+        if !(row.value_c.is_finite() && row.value_c >= 0.0) {
+            p.add(
+                &format!("rows[{i}].value_c"),
+                "must be a finite number of °C >= 0",
+            );
+        }
+    }
+    p.finish()?;
+    let mut tx = store::begin_write(&state.db).await?;
+    let before = store::templates::rows(&mut tx, &kind).await?;
+    store::templates::replace(&mut tx, &kind, &body.rows).await?;
+    record(
+        &mut tx,
+        &caller,
+        "replace",
+        "budget_template",
+        &kind,
+        Some(&json(&before)),
+        Some(&json(&body.rows)),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok(Json(body))
+}

@@ -64,6 +64,10 @@ pub fn routes() -> Router<AppState> {
             "/api/v1/cmc",
             get(equipment::list_cmc).post(equipment::add_cmc),
         )
+        .route(
+            "/api/v1/budget-templates/{kind}",
+            get(equipment::get_template).put(equipment::put_template),
+        )
         .route("/api/v1/runs", get(runs::list).post(runs::create))
         .route("/api/v1/runs/{id}", get(runs::get))
         .route("/api/v1/runs/{id}/set-points", post(runs::add_set_point))

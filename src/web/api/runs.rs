@@ -135,9 +135,10 @@ pub struct RunBody {
     /// Degree of the deviation function (0..5).
     #[serde(default)]
     pub fit_degree: Option<i64>,
-    /// Lab-entered budget rows.
+    /// Lab-entered budget rows; when absent, the lab's budget template for
+    /// the instrument's kind.
     #[serde(default)]
-    pub extra_budget: Vec<ExtraBudgetRow>,
+    pub extra_budget: Option<Vec<ExtraBudgetRow>>,
 }
 
 pub use crate::domain::results::ExtraBudgetRow;
@@ -285,16 +286,16 @@ async fn resolve(conn: &mut sqlx::SqliteConnection, body: RunBody) -> Result<Res
     {
         p.add("fit_degree", "must be between 0 and 5");
     }
-    for (i, row) in body.extra_budget.iter().enumerate() {
+    let extra_budget = match body.extra_budget {
+        Some(rows) => rows,
+        None => crate::store::templates::rows(conn, &kind).await?,
+    };
+    for (i, row) in extra_budget.iter().enumerate() {
         if row.name.trim().is_empty() {
             p.add(&format!("extra_budget[{i}].name"), "must not be empty");
         }
-        if !["rectangular", "triangular", "u_shaped", "normal"].contains(&row.distribution.as_str())
-        {
-            p.add(
-                &format!("extra_budget[{i}].distribution"),
-                "expected rectangular, triangular, u_shaped or normal",
-            );
+        if let Err(e) = row.item() {
+            p.add(&format!("extra_budget[{i}]"), e);
         }
         if !(row.value_c.is_finite() && row.value_c >= 0.0) {
             p.add(
@@ -326,7 +327,7 @@ async fn resolve(conn: &mut sqlx::SqliteConnection, body: RunBody) -> Result<Res
         tolerance_class: body.tolerance_class,
         tolerance_limit_c: body.tolerance_limit_c,
         fit_degree: body.fit_degree,
-        extra_budget: serde_json::to_string(&body.extra_budget)
+        extra_budget: serde_json::to_string(&extra_budget)
             .map_err(|e| AppError::Internal(e.to_string()))?,
     };
     Ok(Resolved {
