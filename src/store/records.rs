@@ -244,3 +244,29 @@ pub async fn instruments(conn: &mut SqliteConnection) -> sqlx::Result<Vec<Instru
     .fetch_all(conn)
     .await
 }
+
+/// Changes an instrument's descriptive fields (serial number, kind, type
+/// and R0 stay: runs refer to them).
+///
+/// # Errors
+/// Any database error.
+pub async fn describe_instrument(
+    conn: &mut SqliteConnection,
+    id: i64,
+    description: &str,
+    manufacturer: &str,
+    model: &str,
+) -> sqlx::Result<Option<Instrument>> {
+    let now = super::now_timestamp();
+    sqlx::query!(
+        "UPDATE instrument SET description = ?, manufacturer = ?, model = ?, updated_at = ? WHERE id = ?",
+        description,
+        manufacturer,
+        model,
+        now,
+        id
+    )
+    .execute(&mut *conn)
+    .await?;
+    instrument_by_id(conn, id).await
+}

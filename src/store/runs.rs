@@ -376,3 +376,29 @@ pub async fn readings(
     .fetch_all(conn)
     .await
 }
+
+/// Removes a set point and its readings; returns whether it existed.
+///
+/// # Errors
+/// Any database error.
+pub async fn delete_set_point(
+    conn: &mut SqliteConnection,
+    run_id: i64,
+    set_point_id: i64,
+) -> sqlx::Result<bool> {
+    sqlx::query!(
+        "DELETE FROM reading WHERE set_point_id = (SELECT id FROM set_point WHERE id = ? AND run_id = ?)",
+        set_point_id,
+        run_id
+    )
+    .execute(&mut *conn)
+    .await?;
+    let done = sqlx::query!(
+        "DELETE FROM set_point WHERE id = ? AND run_id = ?",
+        set_point_id,
+        run_id
+    )
+    .execute(conn)
+    .await?;
+    Ok(done.rows_affected() == 1)
+}

@@ -777,3 +777,82 @@ async fn a_new_run_takes_the_budget_template_of_its_kind(pool: SqlitePool) {
             .contains("stem conduction")
     );
 }
+
+#[sqlx::test]
+async fn instruments_can_be_described_and_set_points_removed(pool: SqlitePool) {
+    let lab = lab(pool.clone()).await;
+    customer_and_instrument(&lab).await;
+    let changed = ok(&call(&lab.app, "PUT", "/api/v1/instruments/PT-2291", Some(&lab.tech),
+        Some(json!({"description": "Pt100 class A, 6 mm x 250 mm", "manufacturer": "Example Sensors"}))).await, StatusCode::OK);
+    assert_eq!(changed["description"], "Pt100 class A, 6 mm x 250 mm");
+    assert_eq!(changed["serial"], "PT-2291");
+    let run = ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/runs",
+            Some(&lab.tech),
+            Some(run_body("2026-11-20")),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let id = run["id"].as_i64().expect("id");
+    let sp = ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/runs/{id}/set-points"),
+            Some(&lab.tech),
+            Some(json!({"nominal_t_c": 60.0, "version": 1})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    ok(&call(&lab.app, "POST", &format!("/api/v1/runs/{id}/set-points/{}/readings", sp["id"]), Some(&lab.tech),
+        Some(json!({"version": 2, "readings": [{"reference_signal": 123.24, "uut_signal": 123.25}]}))).await, StatusCode::CREATED);
+    let stale = call(
+        &lab.app,
+        "DELETE",
+        &format!("/api/v1/runs/{id}/set-points/{}?version=2", sp["id"]),
+        Some(&lab.tech),
+        None,
+    )
+    .await;
+    assert_eq!(stale.status, StatusCode::CONFLICT);
+    let gone = call(
+        &lab.app,
+        "DELETE",
+        &format!("/api/v1/runs/{id}/set-points/{}?version=3", sp["id"]),
+        Some(&lab.tech),
+        None,
+    )
+    .await;
+    assert_eq!(gone.status, StatusCode::NO_CONTENT, "{}", gone.text());
+    let detail = ok(
+        &call(
+            &lab.app,
+            "GET",
+            &format!("/api/v1/runs/{id}"),
+            Some(&lab.reader),
+            None,
+        )
+        .await,
+        StatusCode::OK,
+    );
+    assert_eq!(detail["set_points"], json!([]));
+    assert_eq!(detail["version"], 4);
+    // The removed readings stay in the audit trail.
+    let mut conn = pool.acquire().await.expect("conn");
+    let events = audit::for_entity(&mut conn, "run", &id.to_string())
+        .await
+        .expect("events");
+    let last = events.last().expect("event");
+    assert_eq!(last.action, "delete_set_point");
+    assert!(
+        last.before_json
+            .as_deref()
+            .expect("before")
+            .contains("123.24")
+    );
+}

@@ -651,3 +651,81 @@ async fn the_demo_runs_have_results_at_once(pool: SqlitePool) {
         "{at100}"
     );
 }
+
+#[sqlx::test]
+async fn a_pt100_against_an_sprt_at_its90_fixed_point_temperatures(pool: SqlitePool) {
+    let lab = lab(pool).await;
+    ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/equipment",
+            Some(&lab.admin),
+            Some(json!({"asset_id": "SPRT-1", "kind": "reference_sprt"})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    // An SPRT with no deviation from the reference function (a = b = 0):
+    // W = W_r, so R = R_tpw x W_r.
+    ok(&call(&lab.app, "POST", "/api/v1/equipment/SPRT-1/certificates", Some(&lab.admin), Some(json!({
+        "number": "SPRT-26", "issuer": "Example laboratory", "calibrated_on": "2026-02-01", "due_on": "2028-02-01",
+        "coefficients": {"form": "its90", "r_tpw_ohm": 25.0, "sub_range": "water-to-tin", "a": 0.0, "b": 0.0},
+        "uncertainties": [{"t_lo_c": 0.0, "t_hi_c": 232.0, "expanded_c": 0.002}]}))).await, StatusCode::CREATED);
+    let customer = ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/customers",
+            Some(&lab.tech),
+            Some(json!({"name": "Water utility (invented)"})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/instruments",
+            Some(&lab.tech),
+            Some(json!({
+        "serial": "PT-S", "kind": "prt", "r0_ohm": 100.0, "customer_id": customer["id"]})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    // ITS-90 Table 1 (Metrologia 27 (1990) 3-10): W_r at the gallium
+    // (29.7646 °C) and indium (156.5985 °C) points, inside the bath's
+    // characterised range.
+    let fixed = [(29.7646, 1.118_138_89), (156.5985, 1.609_801_85)];
+    // IEC 60751:2008 Pt100: R = 100 (1 + A t + B t²); the UUT reads 0.02 Ω high.
+    let pt100 = |t: f64| 100.0 * (1.0 + 3.9083e-3 * t - 5.775e-7 * t * t);
+    let points: Vec<(f64, Vec<Value>)> = fixed
+        .iter()
+        .map(|&(t, w)| {
+            let reading = json!({"reference_signal": 25.0 * w, "uut_signal": pt100(t) + 0.02});
+            (t.round(), vec![reading.clone(), reading.clone(), reading])
+        })
+        .collect();
+    let id = record_run(
+        &lab,
+        json!({"instrument_serial": "PT-S", "reference": "SPRT-1", "medium": "BATH-01",
+        "performed_on": "2026-11-20", "procedure_ref": "TP-05 rev 2", "decision_rule": "none"}),
+        &points,
+    )
+    .await;
+    let res = results(&lab, id).await;
+    for (i, (t, _)) in fixed.iter().enumerate() {
+        let sp = &res["set_points"][i];
+        // W_r is printed to 8 decimals: 5e-9 / (dW_r/dT ≈ 0.004 /K) ≈ 1.3 mK.
+        assert!((num(&sp["mean_t_ref_c"]) - t).abs() < 0.0015, "{sp}");
+        // dt = t_nominal(R) - t_ref = 0.02 Ω / (dR/dt = 100 (A + 2 B t)).
+        let slope = 100.0 * (3.9083e-3 - 2.0 * 5.775e-7 * t);
+        assert!(
+            (num(&sp["mean_deviation_c"]) - 0.02 / slope).abs() < 0.0015,
+            "{sp}"
+        );
+        assert!((num(&sp["mean_deviation_ohm"]) - 0.02).abs() < 1e-5, "{sp}");
+    }
+}

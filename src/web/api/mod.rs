@@ -42,7 +42,10 @@ pub fn routes() -> Router<AppState> {
             "/api/v1/instruments",
             get(records::list_instruments).post(records::create_instrument),
         )
-        .route("/api/v1/instruments/{serial}", get(records::get_instrument))
+        .route(
+            "/api/v1/instruments/{serial}",
+            get(records::get_instrument).put(records::describe_instrument),
+        )
         .route(
             "/api/v1/equipment",
             get(equipment::list).post(equipment::create),
@@ -71,6 +74,10 @@ pub fn routes() -> Router<AppState> {
         .route("/api/v1/runs", get(runs::list).post(runs::create))
         .route("/api/v1/runs/{id}", get(runs::get))
         .route("/api/v1/runs/{id}/set-points", post(runs::add_set_point))
+        .route(
+            "/api/v1/runs/{id}/set-points/{set_point_id}",
+            axum::routing::delete(runs::delete_set_point),
+        )
         .route(
             "/api/v1/runs/{id}/set-points/{set_point_id}/readings",
             post(runs::add_readings),

@@ -397,3 +397,61 @@ pub async fn create_instrument(
     tx.commit().await?;
     Ok((StatusCode::CREATED, Json(instrument)))
 }
+
+/// Body of an instrument description change.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DescribeBody {
+    /// Description.
+    #[serde(default)]
+    pub description: String,
+    /// Manufacturer.
+    #[serde(default)]
+    pub manufacturer: String,
+    /// Model.
+    #[serde(default)]
+    pub model: String,
+}
+
+/// `PUT /api/v1/instruments/{serial}`: changes the descriptive fields.
+pub async fn describe_instrument(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path(serial): Path<String>,
+    ApiJson(body): ApiJson<DescribeBody>,
+) -> ApiResult<Json<Instrument>> {
+    caller.may_change(RECEIVING_ROLES, "changing instruments")?;
+    let mut tx = store::begin_write(&state.db).await?;
+    let before = records::instrument_by_serial(&mut tx, &serial)
+        .await?
+        .ok_or_else(|| {
+            AppError::NotFound(format!(
+                "there is no instrument with serial number {serial:?}"
+            ))
+        })?;
+    let after = records::describe_instrument(
+        &mut tx,
+        before.id,
+        &body.description,
+        &body.manufacturer,
+        &body.model,
+    )
+    .await?
+    .ok_or_else(|| {
+        AppError::NotFound(format!(
+            "there is no instrument with serial number {serial:?}"
+        ))
+    })?;
+    record(
+        &mut tx,
+        &caller,
+        "update",
+        "instrument",
+        &serial,
+        Some(&json(&before)),
+        Some(&json(&after)),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok(Json(after))
+}

@@ -491,6 +491,46 @@ pub async fn add_set_point(
     Ok((StatusCode::CREATED, Json(sp)))
 }
 
+/// `DELETE /api/v1/runs/{id}/set-points/{set_point_id}?version=N`: removes
+/// a set point and its readings from an open run (kept in the audit trail).
+pub async fn delete_set_point(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path((id, set_point_id)): Path<(i64, i64)>,
+    Query(query): Query<VersionQuery>,
+) -> ApiResult<StatusCode> {
+    caller.may_change(RUN_ROLES, "changing runs")?;
+    let version = query.version.ok_or_else(|| {
+        AppError::invalid("version", "give the run version you loaded as ?version=N")
+    })?;
+    let mut tx = store::begin_write(&state.db).await?;
+    let run = run_or_404(&mut tx, id).await?;
+    editable(&run, &caller, version)?;
+    let Some(sp) = runs::set_points(&mut tx, id)
+        .await?
+        .into_iter()
+        .find(|sp| sp.id == set_point_id)
+    else {
+        return Err(AppError::NotFound(format!("run {id} has no set point {set_point_id}")).into());
+    };
+    let readings = runs::readings(&mut tx, sp.id).await?;
+    runs::delete_set_point(&mut tx, id, set_point_id).await?;
+    runs::touch(&mut tx, id, run.version).await?;
+    let before = serde_json::json!({"set_point": sp, "readings": readings});
+    record(
+        &mut tx,
+        &caller,
+        "delete_set_point",
+        "run",
+        &id.to_string(),
+        Some(&before),
+        None,
+    )
+    .await?;
+    tx.commit().await?;
+    Ok(StatusCode::NO_CONTENT)
+}
+
 /// Body of readings as JSON.
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
