@@ -856,3 +856,194 @@ async fn instruments_can_be_described_and_set_points_removed(pool: SqlitePool) {
             .contains("123.24")
     );
 }
+
+/// Who may call each route: every route of the records API against no
+/// token, a read-only token, and write tokens of each role.
+#[sqlx::test]
+async fn every_records_route_checks_token_scope_and_role(pool: SqlitePool) {
+    let lab = lab(pool.clone()).await;
+    customer_and_instrument(&lab).await;
+    let run = ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/runs",
+            Some(&lab.tech),
+            Some(run_body("2026-11-20")),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let id = run["id"].as_i64().expect("id");
+    let sp = ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/runs/{id}/set-points"),
+            Some(&lab.tech),
+            Some(json!({"nominal_t_c": 60.0, "version": 1})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let sp_id = sp["id"].as_i64().expect("sp");
+    use Role::{Administrator as A, Reviewer as R, Technician as T};
+    // (method, uri, body, roles allowed to change)
+    let writes: Vec<(&str, String, Value, Vec<Role>)> = vec![
+        (
+            "POST",
+            "/api/v1/customers".into(),
+            json!({"name": "Matrix customer"}),
+            vec![T, R, A],
+        ),
+        (
+            "PUT",
+            "/api/v1/customers/1".into(),
+            json!({"name": "Northfield Dairy Co-op (invented)"}),
+            vec![T, R, A],
+        ),
+        (
+            "POST",
+            "/api/v1/instruments".into(),
+            json!({"serial": "M-1", "kind": "indicating", "customer_id": 1}),
+            vec![T, R, A],
+        ),
+        (
+            "PUT",
+            "/api/v1/instruments/PT-2291".into(),
+            json!({"description": "x"}),
+            vec![T, R, A],
+        ),
+        (
+            "POST",
+            "/api/v1/equipment".into(),
+            json!({"asset_id": "M-EQ", "kind": "bath"}),
+            vec![R, A],
+        ),
+        (
+            "PUT",
+            "/api/v1/equipment/BATH-01/status".into(),
+            json!({"status": "in_service"}),
+            vec![R, A],
+        ),
+        (
+            "POST",
+            "/api/v1/equipment/DMM-01/certificates".into(),
+            json!({"number": "M", "issuer": "M", "calibrated_on": "2026-05-01", "due_on": "2027-05-01"}),
+            vec![R, A],
+        ),
+        (
+            "POST",
+            "/api/v1/equipment/BATH-01/characterisations".into(),
+            json!({"characterised_on": "2026-05-01", "ranges": [{"t_lo_c": 0.0, "t_hi_c": 10.0, "uniformity_half_width_c": 0.01, "stability_half_width_c": 0.01}]}),
+            vec![R, A],
+        ),
+        (
+            "POST",
+            "/api/v1/cmc".into(),
+            json!({"instrument_kind": "prt", "t_lo_c": 0.0, "t_hi_c": 10.0, "expanded_c": 0.02}),
+            vec![A],
+        ),
+        (
+            "PUT",
+            "/api/v1/budget-templates/prt".into(),
+            json!({"rows": []}),
+            vec![R, A],
+        ),
+        (
+            "POST",
+            "/api/v1/runs".into(),
+            run_body("2026-11-20"),
+            vec![T, A],
+        ),
+        (
+            "POST",
+            format!("/api/v1/runs/{id}/set-points"),
+            json!({"nominal_t_c": 70.0, "version": 99}),
+            vec![T, A],
+        ),
+        (
+            "POST",
+            format!("/api/v1/runs/{id}/set-points/{sp_id}/readings"),
+            json!({"version": 99, "readings": [{"reference_signal": 123.2, "uut_signal": 123.2}]}),
+            vec![T, A],
+        ),
+        (
+            "DELETE",
+            format!("/api/v1/runs/{id}/set-points/{sp_id}?version=99"),
+            Value::Null,
+            vec![T, A],
+        ),
+        (
+            "POST",
+            format!("/api/v1/runs/{id}/submit"),
+            json!({"version": 99}),
+            vec![T, A],
+        ),
+    ];
+    let callers = [
+        (T, lab.tech.clone()),
+        (R, lab.reviewer.clone()),
+        (A, lab.admin.clone()),
+    ];
+    for (method, uri, body, allowed) in &writes {
+        let body = (!body.is_null()).then(|| body.clone());
+        let none = call(&lab.app, method, uri, None, body.clone()).await;
+        assert_eq!(
+            none.status,
+            StatusCode::UNAUTHORIZED,
+            "{method} {uri} without a token"
+        );
+        let read = call(&lab.app, method, uri, Some(&lab.reader), body.clone()).await;
+        assert_eq!(
+            read.status,
+            StatusCode::FORBIDDEN,
+            "{method} {uri} with a read-only token"
+        );
+        for (role, token) in &callers {
+            let answer = call(&lab.app, method, uri, Some(token), body.clone()).await;
+            if allowed.contains(role) {
+                assert!(
+                    answer.status != StatusCode::FORBIDDEN
+                        && answer.status != StatusCode::UNAUTHORIZED,
+                    "{method} {uri} as {role:?} should be allowed: {}",
+                    answer.text()
+                );
+            } else {
+                assert_eq!(
+                    answer.status,
+                    StatusCode::FORBIDDEN,
+                    "{method} {uri} as {role:?}: {}",
+                    answer.text()
+                );
+            }
+        }
+    }
+    let reads = [
+        "/api/v1/customers".to_owned(),
+        "/api/v1/customers/1".to_owned(),
+        "/api/v1/instruments".to_owned(),
+        "/api/v1/instruments/PT-2291".to_owned(),
+        "/api/v1/equipment".to_owned(),
+        "/api/v1/equipment/BATH-01".to_owned(),
+        "/api/v1/cmc".to_owned(),
+        "/api/v1/budget-templates/prt".to_owned(),
+        "/api/v1/runs".to_owned(),
+        format!("/api/v1/runs/{id}"),
+        format!("/api/v1/runs/{id}/results"),
+        "/api/v1/impact?asset_id=BATH-01&from=2026-01-01&to=2026-12-31".to_owned(),
+    ];
+    for uri in &reads {
+        assert_eq!(
+            call(&lab.app, "GET", uri, None, None).await.status,
+            StatusCode::UNAUTHORIZED,
+            "GET {uri}"
+        );
+        let answer = call(&lab.app, "GET", uri, Some(&lab.reader), None).await;
+        assert!(
+            answer.status != StatusCode::UNAUTHORIZED && answer.status != StatusCode::FORBIDDEN,
+            "GET {uri}: {}",
+            answer.text()
+        );
+    }
+}
