@@ -10,6 +10,7 @@ pub mod equipment;
 pub mod lab;
 pub mod records;
 pub mod runs;
+pub mod sessions;
 pub mod templates;
 
 use std::path::{Path, PathBuf};

@@ -58,6 +58,8 @@ pub struct Run {
     pub updated_at: String,
     /// When submitted for review.
     pub submitted_at: Option<String>,
+    /// Why a reviewer returned the run, while it is returned.
+    pub returned_reason: Option<String>,
 }
 
 /// Fields of a run a caller sets.
@@ -160,7 +162,7 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
                   rj_method, immersion_mm, condition, decision_rule,
                   guard_band_factor AS "guard_band_factor!: f64", tolerance_class, tolerance_limit_c,
                   fit_degree, extra_budget, technician_id, status, version, created_at, updated_at,
-                  submitted_at
+                  submitted_at, returned_reason
            FROM run WHERE id = ?"#,
         id
     )
@@ -180,7 +182,7 @@ pub async fn all(conn: &mut SqliteConnection) -> sqlx::Result<Vec<Run>> {
                   rj_method, immersion_mm, condition, decision_rule,
                   guard_band_factor AS "guard_band_factor!: f64", tolerance_class, tolerance_limit_c,
                   fit_degree, extra_budget, technician_id, status, version, created_at, updated_at,
-                  submitted_at
+                  submitted_at, returned_reason
            FROM run ORDER BY performed_on DESC, id DESC"#
     )
     .fetch_all(conn)
@@ -205,7 +207,7 @@ pub async fn using_equipment(
                   rj_method, immersion_mm, condition, decision_rule,
                   guard_band_factor AS "guard_band_factor!: f64", tolerance_class, tolerance_limit_c,
                   fit_degree, extra_budget, technician_id, status, version, created_at, updated_at,
-                  submitted_at
+                  submitted_at, returned_reason
            FROM run
            WHERE (reference_id = ?1 OR reference_readout_id = ?1 OR uut_readout_id = ?1 OR medium_id = ?1)
              AND performed_on BETWEEN ?2 AND ?3

@@ -48,6 +48,9 @@ pub enum AppError {
     /// The thing asked for does not exist.
     #[error("{0}")]
     NotFound(String),
+    /// The caller may not do this (e.g. a form without a valid CSRF token).
+    #[error("{0}")]
+    Forbidden(String),
     /// The request conflicts with the current state (e.g. a stale edit).
     #[error("{0}")]
     Conflict(String),
@@ -89,6 +92,7 @@ impl AppError {
             Self::Invalid { .. } => StatusCode::UNPROCESSABLE_ENTITY,
             Self::NotFound(_) | Self::Db(sqlx::Error::RowNotFound) => StatusCode::NOT_FOUND,
             Self::Conflict(_) => StatusCode::CONFLICT,
+            Self::Forbidden(_) => StatusCode::FORBIDDEN,
             Self::PayloadTooLarge { .. } => StatusCode::PAYLOAD_TOO_LARGE,
             Self::Unavailable(_) => StatusCode::SERVICE_UNAVAILABLE,
             Self::Db(_) | Self::Render(_) | Self::Internal(_) => StatusCode::INTERNAL_SERVER_ERROR,
@@ -103,6 +107,7 @@ impl AppError {
             Self::Invalid { .. } => "invalid-input",
             Self::NotFound(_) | Self::Db(sqlx::Error::RowNotFound) => "not-found",
             Self::Conflict(_) => "conflict",
+            Self::Forbidden(_) => "forbidden",
             Self::PayloadTooLarge { .. } => "payload-too-large",
             Self::Unavailable(_) => "unavailable",
             Self::Db(_) | Self::Render(_) | Self::Internal(_) => "server-error",
@@ -158,6 +163,7 @@ pub fn title_for(slug: &str) -> &'static str {
         "invalid-input" => "Invalid input",
         "not-found" => "Not found",
         "conflict" => "Conflict with the current state",
+        "forbidden" => "Not allowed",
         "payload-too-large" => "Request body too large",
         "unavailable" => "Service unavailable",
         "timeout" => "Request timed out",

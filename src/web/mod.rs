@@ -11,6 +11,7 @@ pub mod error;
 pub mod extract;
 pub mod metrics;
 pub mod pages;
+pub mod session;
 
 use std::sync::Arc;
 

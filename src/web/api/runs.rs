@@ -343,8 +343,18 @@ pub async fn create(
     caller: Caller,
     ApiJson(body): ApiJson<RunBody>,
 ) -> ApiResult<(StatusCode, Json<Run>)> {
+    let run = create_run(&state.db, &caller, body).await?;
+    Ok((StatusCode::CREATED, Json(run)))
+}
+
+/// Starts a run for `caller` (the API and the pages both use this).
+///
+/// # Errors
+/// 403 for the wrong role; 422 naming each bad field, including equipment
+/// that is out of service or past its due date.
+pub async fn create_run(db: &sqlx::SqlitePool, caller: &Caller, body: RunBody) -> ApiResult<Run> {
     caller.may_change(RUN_ROLES, "recording runs")?;
-    let mut tx = store::begin_write(&state.db).await?;
+    let mut tx = store::begin_write(db).await?;
     let resolved = resolve(&mut tx, body).await?;
     let run = runs::create(&mut tx, &resolved.fields, caller.user_id).await?;
     let after = serde_json::json!({
@@ -354,7 +364,7 @@ pub async fn create(
     });
     record(
         &mut tx,
-        &caller,
+        caller,
         "create",
         "run",
         &run.id.to_string(),
@@ -363,7 +373,7 @@ pub async fn create(
     )
     .await?;
     tx.commit().await?;
-    Ok((StatusCode::CREATED, Json(run)))
+    Ok(run)
 }
 
 /// `GET /api/v1/runs`.
@@ -392,7 +402,7 @@ pub struct RunDetail {
     pub set_points: Vec<SetPointDetail>,
 }
 
-async fn run_or_404(conn: &mut sqlx::SqliteConnection, id: i64) -> Result<Run, AppError> {
+pub async fn run_or_404(conn: &mut sqlx::SqliteConnection, id: i64) -> Result<Run, AppError> {
     runs::by_id(conn, id)
         .await?
         .ok_or_else(|| AppError::NotFound(format!("there is no run {id}")))
@@ -457,13 +467,27 @@ pub async fn add_set_point(
     Path(id): Path<i64>,
     ApiJson(body): ApiJson<SetPointBody>,
 ) -> ApiResult<(StatusCode, Json<SetPoint>)> {
+    let sp = add_set_point_to(&state.db, &caller, id, body).await?;
+    Ok((StatusCode::CREATED, Json(sp)))
+}
+
+/// Adds a set point to run `id`.
+///
+/// # Errors
+/// 403, 404, 409 (read-only or stale), 422 (duplicate or not finite).
+pub async fn add_set_point_to(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    id: i64,
+    body: SetPointBody,
+) -> ApiResult<SetPoint> {
     caller.may_change(RUN_ROLES, "changing runs")?;
     if !body.nominal_t_c.is_finite() {
         return Err(AppError::invalid("nominal_t_c", "must be a finite temperature in °C").into());
     }
-    let mut tx = store::begin_write(&state.db).await?;
+    let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;
-    editable(&run, &caller, body.version)?;
+    editable(&run, caller, body.version)?;
     let sp = runs::add_set_point(&mut tx, id, body.nominal_t_c)
         .await
         .map_err(|e| match e.as_database_error() {
@@ -479,7 +503,7 @@ pub async fn add_set_point(
     runs::touch(&mut tx, id, run.version).await?;
     record(
         &mut tx,
-        &caller,
+        caller,
         "add_set_point",
         "run",
         &id.to_string(),
@@ -488,7 +512,7 @@ pub async fn add_set_point(
     )
     .await?;
     tx.commit().await?;
-    Ok((StatusCode::CREATED, Json(sp)))
+    Ok(sp)
 }
 
 /// `DELETE /api/v1/runs/{id}/set-points/{set_point_id}?version=N`: removes
@@ -499,13 +523,28 @@ pub async fn delete_set_point(
     Path((id, set_point_id)): Path<(i64, i64)>,
     Query(query): Query<VersionQuery>,
 ) -> ApiResult<StatusCode> {
-    caller.may_change(RUN_ROLES, "changing runs")?;
     let version = query.version.ok_or_else(|| {
         AppError::invalid("version", "give the run version you loaded as ?version=N")
     })?;
-    let mut tx = store::begin_write(&state.db).await?;
+    remove_set_point(&state.db, &caller, id, set_point_id, version).await?;
+    Ok(StatusCode::NO_CONTENT)
+}
+
+/// Removes a set point and its readings from run `id`.
+///
+/// # Errors
+/// 403, 404, 409.
+pub async fn remove_set_point(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    id: i64,
+    set_point_id: i64,
+    version: i64,
+) -> ApiResult<()> {
+    caller.may_change(RUN_ROLES, "changing runs")?;
+    let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;
-    editable(&run, &caller, version)?;
+    editable(&run, caller, version)?;
     let Some(sp) = runs::set_points(&mut tx, id)
         .await?
         .into_iter()
@@ -519,7 +558,7 @@ pub async fn delete_set_point(
     let before = serde_json::json!({"set_point": sp, "readings": readings});
     record(
         &mut tx,
-        &caller,
+        caller,
         "delete_set_point",
         "run",
         &id.to_string(),
@@ -528,7 +567,7 @@ pub async fn delete_set_point(
     )
     .await?;
     tx.commit().await?;
-    Ok(StatusCode::NO_CONTENT)
+    Ok(())
 }
 
 /// Body of readings as JSON.
@@ -674,12 +713,29 @@ pub async fn add_readings(
         )
         .into());
     };
+    let added = add_readings_to(&state.db, &caller, id, set_point_id, version, readings).await?;
+    Ok((StatusCode::CREATED, Json(added)))
+}
+
+/// Appends readings to a set point of run `id`, all or none.
+///
+/// # Errors
+/// 403, 404, 409, 422 naming the reading and field.
+pub async fn add_readings_to(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    id: i64,
+    set_point_id: i64,
+    version: i64,
+    readings: Vec<Reading>,
+) -> ApiResult<ReadingsAdded> {
+    caller.may_change(RUN_ROLES, "entering readings")?;
     if readings.is_empty() {
         return Err(AppError::invalid("readings", "no readings given").into());
     }
-    let mut tx = store::begin_write(&state.db).await?;
+    let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;
-    editable(&run, &caller, version)?;
+    editable(&run, caller, version)?;
     if !runs::set_points(&mut tx, id)
         .await?
         .iter()
@@ -696,7 +752,7 @@ pub async fn add_readings(
     let after = serde_json::json!({"set_point_id": set_point_id, "readings": readings});
     record(
         &mut tx,
-        &caller,
+        caller,
         "add_readings",
         "run",
         &id.to_string(),
@@ -705,14 +761,11 @@ pub async fn add_readings(
     )
     .await?;
     tx.commit().await?;
-    Ok((
-        StatusCode::CREATED,
-        Json(ReadingsAdded {
-            added: readings.len(),
-            total,
-            version: run.version + 1,
-        }),
-    ))
+    Ok(ReadingsAdded {
+        added: readings.len(),
+        total,
+        version: run.version + 1,
+    })
 }
 
 /// Body of a submission.
@@ -731,10 +784,25 @@ pub async fn submit(
     Path(id): Path<i64>,
     ApiJson(body): ApiJson<SubmitBody>,
 ) -> ApiResult<Json<Run>> {
+    Ok(Json(
+        submit_run(&state.db, &caller, id, body.version).await?,
+    ))
+}
+
+/// Submits run `id` for review.
+///
+/// # Errors
+/// 403, 404, 409, 422 (no set points, too few readings).
+pub async fn submit_run(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    id: i64,
+    version: i64,
+) -> ApiResult<Run> {
     caller.may_change(RUN_ROLES, "submitting runs")?;
-    let mut tx = store::begin_write(&state.db).await?;
+    let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;
-    editable(&run, &caller, body.version)?;
+    editable(&run, caller, version)?;
     let set_points = runs::set_points(&mut tx, id).await?;
     if set_points.is_empty() {
         return Err(AppError::invalid(
@@ -757,7 +825,7 @@ pub async fn submit(
     let after = run_or_404(&mut tx, id).await?;
     record(
         &mut tx,
-        &caller,
+        caller,
         "submit",
         "run",
         &id.to_string(),
@@ -766,7 +834,7 @@ pub async fn submit(
     )
     .await?;
     tx.commit().await?;
-    Ok(Json(after))
+    Ok(after)
 }
 
 /// Query of the impact search.
