@@ -20,6 +20,7 @@ pub mod config;
 pub mod demo;
 pub mod domain;
 pub mod metrology;
+pub mod report;
 pub mod store;
 pub mod web;
 

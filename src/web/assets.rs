@@ -8,11 +8,18 @@ use axum::response::{IntoResponse, Response};
 use super::AppError;
 
 /// (name, content type, body)
-const FILES: &[(&str, &str, &str)] = &[(
-    "juncture.css",
-    "text/css; charset=utf-8",
-    include_str!("../../static/juncture.css"),
-)];
+const FILES: &[(&str, &str, &str)] = &[
+    (
+        "juncture.css",
+        "text/css; charset=utf-8",
+        include_str!("../../static/juncture.css"),
+    ),
+    (
+        "grid.js",
+        "text/javascript; charset=utf-8",
+        include_str!("../../static/grid.js"),
+    ),
+];
 
 /// `GET /static/{file}`.
 ///

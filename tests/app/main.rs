@@ -6,6 +6,7 @@ mod accounts;
 mod compute;
 mod foundation;
 mod helpers;
+mod pages;
 mod records;
 mod reference;
 mod results;

@@ -282,7 +282,11 @@ pub struct InstrumentBody {
 }
 
 impl InstrumentBody {
-    fn validate(self) -> Result<InstrumentFields, AppError> {
+    /// Checks the body and turns it into fields to store.
+    ///
+    /// # Errors
+    /// 422 naming each bad field.
+    pub fn validate(self) -> Result<InstrumentFields, AppError> {
         let mut p = Problems::default();
         p.text("serial", &self.serial);
         let kind = self.kind.trim().to_ascii_lowercase();

@@ -28,6 +28,7 @@ fn line(label: &'static str, value: String) -> Line {
 #[derive(Template)]
 #[template(path = "convert.html")]
 struct ConvertPage {
+    nav: super::Nav,
     /// Which form was submitted.
     form: String,
     /// Submitted values, to fill the inputs again.
@@ -227,6 +228,7 @@ fn compute(
 
 /// `GET /convert`.
 pub async fn page(
+    crate::web::session::MaybeUser(user): crate::web::session::MaybeUser,
     Query(values): Query<HashMap<String, String>>,
 ) -> Result<Html<String>, PageError> {
     let form = values.get("form").cloned().unwrap_or_default();
@@ -246,6 +248,7 @@ pub async fn page(
         }
     };
     let page = ConvertPage {
+        nav: super::Nav::of(user.as_ref()),
         form,
         values,
         errors,

@@ -1,7 +1,9 @@
 //! Browser pages, rendered on the server with askama. They work without
 //! JavaScript; errors render as a readable page.
 
+pub mod auth;
 pub mod convert;
+pub mod runs;
 
 use askama::Template;
 use axum::Router;
@@ -20,6 +22,48 @@ pub fn routes() -> Router<AppState> {
         .route("/", get(home))
         .route("/problems/{slug}", get(problem_type))
         .route("/convert", get(convert::page))
+        .route("/sign-in", get(auth::sign_in_page).post(auth::sign_in))
+        .route("/sign-out", axum::routing::post(auth::sign_out))
+        .route("/work", get(runs::work))
+        .route("/runs/new", get(runs::new_run_page).post(runs::new_run))
+        .route("/runs/{id}", get(runs::run_page))
+        .route(
+            "/runs/{id}/set-points",
+            axum::routing::post(runs::add_set_point),
+        )
+        .route(
+            "/runs/{id}/set-points/{set_point_id}/readings",
+            axum::routing::post(runs::add_readings),
+        )
+        .route(
+            "/runs/{id}/set-points/{set_point_id}/delete",
+            axum::routing::post(runs::delete_set_point),
+        )
+        .route("/runs/{id}/submit", axum::routing::post(runs::submit))
+}
+
+/// What the page header shows about the signed-in person.
+#[derive(Debug, Clone, Default)]
+pub struct Nav {
+    /// Display name, when signed in.
+    pub user: Option<String>,
+    /// The session's CSRF token (for the sign-out form).
+    pub csrf: String,
+}
+
+impl Nav {
+    /// The header for `user`.
+    #[must_use]
+    pub fn of(user: Option<&super::session::PageUser>) -> Self {
+        user.map_or_else(Self::default, |u| Self {
+            user: Some(format!(
+                "{} ({})",
+                u.user.display_name,
+                u.user.role.as_str()
+            )),
+            csrf: u.csrf.clone(),
+        })
+    }
 }
 
 /// An error shown to a person: the same [`AppError`], rendered as a page.
@@ -35,6 +79,7 @@ impl<E: Into<AppError>> From<E> for PageError {
 #[derive(Template)]
 #[template(path = "error.html")]
 struct ErrorPage<'a> {
+    nav: Nav,
     title: &'a str,
     status: u16,
     detail: String,
@@ -45,6 +90,7 @@ impl IntoResponse for PageError {
     fn into_response(self) -> Response {
         let status = self.0.status();
         let page = ErrorPage {
+            nav: Nav::default(),
             title: title_for(self.0.slug()),
             status: status.as_u16(),
             detail: self.0.public_detail(),
@@ -63,13 +109,17 @@ impl IntoResponse for PageError {
 #[derive(Template)]
 #[template(path = "home.html")]
 struct HomePage {
+    nav: Nav,
     lab: Option<store::lab::LabSettings>,
     coverage_percent: String,
     version: &'static str,
 }
 
 /// `GET /`: the laboratory's identity and settings, and where to go next.
-async fn home(State(state): State<AppState>) -> Result<Html<String>, PageError> {
+async fn home(
+    State(state): State<AppState>,
+    super::session::MaybeUser(user): super::session::MaybeUser,
+) -> Result<Html<String>, PageError> {
     let mut conn = state.db.acquire().await.map_err(AppError::from)?;
     let lab = store::lab::get(&mut conn).await.map_err(AppError::from)?;
     let coverage_percent = lab
@@ -77,6 +127,7 @@ async fn home(State(state): State<AppState>) -> Result<Html<String>, PageError> 
         .map(|l| format!("{:.2} %", l.coverage_probability * 100.0))
         .unwrap_or_default();
     let page = HomePage {
+        nav: Nav::of(user.as_ref()),
         lab,
         coverage_percent,
         version: crate::VERSION,
@@ -120,6 +171,7 @@ const PROBLEM_TYPES: &[(&str, &str)] = &[
 #[derive(Template)]
 #[template(path = "problem_type.html")]
 struct ProblemTypePage<'a> {
+    nav: Nav,
     slug: &'a str,
     title: &'a str,
     explanation: &'a str,
@@ -132,6 +184,7 @@ async fn problem_type(Path(slug): Path<String>) -> Result<Html<String>, PageErro
         .find(|(s, _)| *s == slug)
         .ok_or_else(|| AppError::NotFound(format!("there is no problem type {slug:?}")))?;
     let page = ProblemTypePage {
+        nav: Nav::default(),
         slug,
         title: title_for(slug),
         explanation,

@@ -1,0 +1,421 @@
+//! The technician's pages through the real router: sign-in, CSRF, the new
+//! run form with blocked equipment, readings pasted with a bad line and
+//! fixed, results on the page, submission, and escaping of what people type.
+
+use axum::Router;
+use axum::body::Body;
+use axum::http::{Request, StatusCode};
+use sqlx::SqlitePool;
+
+use crate::helpers::{Answer, app, send};
+
+/// A browser: keeps the session cookie and the page's CSRF token.
+struct Browser {
+    app: Router,
+    cookies: Vec<(String, String)>,
+}
+
+impl Browser {
+    fn cookie_header(&self) -> String {
+        self.cookies
+            .iter()
+            .map(|(k, v)| format!("{k}={v}"))
+            .collect::<Vec<_>>()
+            .join("; ")
+    }
+
+    fn keep_cookies(&mut self, answer: &Answer) {
+        for value in answer.headers.get_all("set-cookie") {
+            let text = value.to_str().expect("ascii");
+            let (pair, _) = text.split_once(';').unwrap_or((text, ""));
+            let (k, v) = pair.split_once('=').expect("name=value");
+            self.cookies.retain(|(name, _)| name != k);
+            if !v.is_empty() {
+                self.cookies.push((k.to_owned(), v.to_owned()));
+            }
+        }
+    }
+
+    async fn get(&mut self, uri: &str) -> Answer {
+        let request = Request::get(uri)
+            .header("cookie", self.cookie_header())
+            .body(Body::empty())
+            .expect("request");
+        let answer = send(&self.app, request).await;
+        self.keep_cookies(&answer);
+        answer
+    }
+
+    async fn post_form(&mut self, uri: &str, fields: &[(&str, &str)]) -> Answer {
+        let body: String = fields
+            .iter()
+            .map(|(k, v)| format!("{}={}", encode(k), encode(v)))
+            .collect::<Vec<_>>()
+            .join("&");
+        let request = Request::post(uri)
+            .header("cookie", self.cookie_header())
+            .header("content-type", "application/x-www-form-urlencoded")
+            .body(Body::from(body))
+            .expect("request");
+        let answer = send(&self.app, request).await;
+        self.keep_cookies(&answer);
+        answer
+    }
+
+    async fn post_multipart(&mut self, uri: &str, fields: &[(&str, &str)]) -> Answer {
+        let boundary = "----juncture-test-boundary";
+        let mut body = String::new();
+        for (k, v) in fields {
+            body.push_str(&format!(
+                "--{boundary}\r\nContent-Disposition: form-data; name=\"{k}\"\r\n\r\n{v}\r\n"
+            ));
+        }
+        body.push_str(&format!("--{boundary}--\r\n"));
+        let request = Request::post(uri)
+            .header("cookie", self.cookie_header())
+            .header(
+                "content-type",
+                format!("multipart/form-data; boundary={boundary}"),
+            )
+            .body(Body::from(body))
+            .expect("request");
+        let answer = send(&self.app, request).await;
+        self.keep_cookies(&answer);
+        answer
+    }
+}
+
+fn encode(text: &str) -> String {
+    text.bytes()
+        .map(|b| match b {
+            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'_' | b'.' | b'~' => {
+                (b as char).to_string()
+            }
+            other => format!("%{other:02X}"),
+        })
+        .collect()
+}
+
+/// The value of the first hidden input named `name` in a page.
+fn hidden(html: &str, name: &str) -> String {
+    let marker = format!("name=\"{name}\" value=\"");
+    let start = html
+        .find(&marker)
+        .unwrap_or_else(|| panic!("no {name} in page"))
+        + marker.len();
+    html[start..].split('"').next().expect("value").to_owned()
+}
+
+fn location(answer: &Answer) -> String {
+    answer.headers["location"]
+        .to_str()
+        .expect("ascii")
+        .to_owned()
+}
+
+async fn signed_in(pool: SqlitePool, username: &str) -> Browser {
+    juncture::demo::load(&pool).await.expect("demo");
+    let mut browser = Browser {
+        app: app(pool),
+        cookies: Vec::new(),
+    };
+    let page = browser.get("/sign-in").await;
+    let csrf = hidden(&page.text(), "csrf");
+    let done = browser
+        .post_form(
+            "/sign-in",
+            &[
+                ("csrf", &csrf),
+                ("username", username),
+                ("password", "juncture-demo"),
+                ("next", "/work"),
+            ],
+        )
+        .await;
+    assert_eq!(done.status, StatusCode::SEE_OTHER, "{}", done.text());
+    browser
+}
+
+#[sqlx::test]
+async fn pages_need_a_session_and_sign_in_sets_a_safe_cookie(pool: SqlitePool) {
+    juncture::demo::load(&pool).await.expect("demo");
+    let mut browser = Browser {
+        app: app(pool),
+        cookies: Vec::new(),
+    };
+    let away = browser.get("/work").await;
+    assert_eq!(away.status, StatusCode::SEE_OTHER);
+    assert_eq!(location(&away), "/sign-in?next=/work");
+
+    let page = browser.get("/sign-in?next=/runs/new").await;
+    assert_eq!(page.status, StatusCode::OK);
+    let html = page.text();
+    assert!(html.contains("<label for=\"username\">User name</label>"));
+    let csrf = hidden(&html, "csrf");
+    let wrong = browser
+        .post_form(
+            "/sign-in",
+            &[
+                ("csrf", &csrf),
+                ("username", "demo-tech"),
+                ("password", "not it at all"),
+                ("next", "/runs/new"),
+            ],
+        )
+        .await;
+    assert_eq!(wrong.status, StatusCode::OK);
+    assert!(
+        wrong
+            .text()
+            .contains("The user name or the password is not right.")
+    );
+    assert!(
+        wrong.text().contains("value=\"demo-tech\""),
+        "the user name is kept"
+    );
+    // A form without the sign-in cookie's token is refused.
+    let forged = browser
+        .post_form(
+            "/sign-in",
+            &[
+                ("csrf", "forged"),
+                ("username", "demo-tech"),
+                ("password", "juncture-demo"),
+            ],
+        )
+        .await;
+    assert!(forged.text().contains("The sign-in form had expired"));
+
+    let csrf = hidden(&forged.text(), "csrf");
+    let ok = browser
+        .post_form(
+            "/sign-in",
+            &[
+                ("csrf", &csrf),
+                ("username", "demo-tech"),
+                ("password", "juncture-demo"),
+                ("next", "/runs/new"),
+            ],
+        )
+        .await;
+    assert_eq!(ok.status, StatusCode::SEE_OTHER);
+    assert_eq!(location(&ok), "/runs/new");
+    let session = ok
+        .headers
+        .get_all("set-cookie")
+        .iter()
+        .map(|v| v.to_str().expect("ascii").to_owned())
+        .find(|c| c.starts_with("juncture_session="))
+        .expect("session cookie");
+    assert!(
+        session.contains("HttpOnly") && session.contains("SameSite=Lax"),
+        "{session}"
+    );
+    assert!(
+        !session.contains("Secure"),
+        "plain HTTP on loopback: no Secure flag"
+    );
+    let work = browser.get("/work").await;
+    assert_eq!(work.status, StatusCode::OK);
+    assert!(work.text().contains("Tamsin Hale"));
+    // An offsite next= is not followed.
+    let csrf = hidden(&work.text(), "csrf");
+    let out = browser.post_form("/sign-out", &[("csrf", &csrf)]).await;
+    assert_eq!(out.status, StatusCode::SEE_OTHER);
+    assert_eq!(browser.get("/work").await.status, StatusCode::SEE_OTHER);
+}
+
+#[sqlx::test]
+async fn forms_without_the_session_token_are_refused(pool: SqlitePool) {
+    let mut browser = signed_in(pool, "demo-tech").await;
+    let refused = browser
+        .post_form(
+            "/runs/new",
+            &[
+                ("csrf", "not-the-token"),
+                ("instrument_serial", "CVW-PT-1187"),
+            ],
+        )
+        .await;
+    assert_eq!(refused.status, StatusCode::FORBIDDEN);
+    assert!(refused.text().contains("did not come from this site"));
+    let refused = browser
+        .post_form("/runs/1/submit", &[("version", "1")])
+        .await;
+    assert_eq!(refused.status, StatusCode::FORBIDDEN);
+}
+
+#[sqlx::test]
+async fn the_new_run_form_shows_blocked_equipment_and_keeps_entries_on_error(pool: SqlitePool) {
+    let mut browser = signed_in(pool, "demo-tech").await;
+    let page = browser.get("/runs/new?performed_on=2026-11-20").await;
+    let html = page.text();
+    assert!(
+        html.contains("<option value=\"LTM-DMM-10\" disabled>"),
+        "out of service item is disabled"
+    );
+    assert!(
+        html.contains("LTM-DMM-10 is out of service (failed its intermediate check on 2026-11-03)")
+    );
+    assert!(html.contains("LTM-PRT-11 was due for calibration on 2026-10-01"));
+    let csrf = hidden(&html, "csrf");
+    // Missing procedure and a non-number: both named, entries kept.
+    let again = browser
+        .post_form(
+            "/runs/new",
+            &[
+                ("csrf", &csrf),
+                ("instrument_serial", "CVW-PT-1187"),
+                ("reference", "LTM-SPRT-01"),
+                ("performed_on", "2026-11-20"),
+                ("procedure_ref", ""),
+                ("ambient_t_c", "warm"),
+                ("location", "<script>x</script>"),
+                ("decision_rule", "none"),
+            ],
+        )
+        .await;
+    assert_eq!(again.status, StatusCode::OK);
+    let html = again.text();
+    assert!(html.contains("&#34;warm&#34; is not a number"), "{html}");
+    assert!(
+        html.contains("value=\"&#60;script&#62;x&#60;/script&#62;\""),
+        "typed text is kept and escaped"
+    );
+    assert!(!html.contains("<script>x</script>"));
+}
+
+#[sqlx::test]
+async fn a_technician_records_a_run_fixes_a_bad_line_and_submits(pool: SqlitePool) {
+    let mut browser = signed_in(pool, "demo-tech").await;
+    let csrf = hidden(&browser.get("/runs/new").await.text(), "csrf");
+    let created = browser
+        .post_form(
+            "/runs/new",
+            &[
+                ("csrf", &csrf),
+                ("instrument_serial", "CVW-PT-1187"),
+                ("reference", "LTM-PRT-02"),
+                ("reference_readout", "LTM-BRG-05"),
+                ("uut_readout", "LTM-BRG-05"),
+                ("medium", "LTM-BATH-07"),
+                ("performed_on", "2026-11-30"),
+                ("procedure_ref", "LTM-P-04 rev 3 <b>"),
+                ("tolerance_class", "A"),
+                ("decision_rule", "simple"),
+                ("guard_band_factor", "1"),
+            ],
+        )
+        .await;
+    assert_eq!(created.status, StatusCode::SEE_OTHER, "{}", created.text());
+    let run_url = location(&created);
+    let page = browser.get(&run_url).await;
+    let html = page.text();
+    assert!(
+        html.contains("LTM-P-04 rev 3 &#60;b&#62;"),
+        "procedure is escaped"
+    );
+    let version = hidden(&html, "version");
+    let added = browser
+        .post_form(
+            &format!("{run_url}/set-points"),
+            &[
+                ("csrf", &csrf),
+                ("version", &version),
+                ("nominal_t_c", "100"),
+            ],
+        )
+        .await;
+    assert_eq!(added.status, StatusCode::SEE_OTHER, "{}", added.text());
+    let html = browser.get(&run_url).await.text();
+    let version = hidden(&html, "version");
+    let action_start = html.find("/readings\"").expect("readings form");
+    let form_url = html[..action_start]
+        .rsplit("action=\"")
+        .next()
+        .expect("action")
+        .to_owned()
+        + "/readings";
+
+    // A pasted block with a bad third line: the page names line and column
+    // and keeps the text.
+    let bad_block = "reference\tuut\n138,5110\t138,5301\n138,5112\t138,53O5\n138,5109\t138,5299\n";
+    let answer = browser
+        .post_multipart(
+            &form_url,
+            &[("csrf", &csrf), ("version", &version), ("paste", bad_block)],
+        )
+        .await;
+    assert_eq!(answer.status, StatusCode::OK);
+    let html = answer.text();
+    assert!(
+        html.contains("line 3, column 2: &#34;138.53O5&#34; in column `uut` is not a number")
+            || html.contains("line 3, column 2"),
+        "{html}"
+    );
+    assert!(html.contains("138,53O5"), "the pasted text is still there");
+    // Fixed and saved: results appear.
+    let good_block = bad_block.replace("138,53O5", "138,5305");
+    let saved = browser
+        .post_multipart(
+            &form_url,
+            &[
+                ("csrf", &csrf),
+                ("version", &version),
+                ("paste", &good_block),
+            ],
+        )
+        .await;
+    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.text());
+    let html = browser.get(&run_url).await.text();
+    assert!(
+        html.contains("class=\"deviation\">+0.1"),
+        "mean deviation shown"
+    );
+    assert!(html.contains("class=\"expanded\">U = 0.0"), "U shown");
+    assert!(
+        html.contains("<meter min=\"0\" max=\"1\""),
+        "variance shares drawn"
+    );
+    assert!(
+        html.contains("Only 3 readings"),
+        "the few-readings warning is next to the set point"
+    );
+    // Typed grid with a bad row: the row is named.
+    let version = hidden(&html, "version");
+    let typed = browser
+        .post_multipart(
+            &form_url,
+            &[
+                ("csrf", &csrf),
+                ("version", &version),
+                ("ref_0", "138.5111"),
+                ("uut_0", "x"),
+            ],
+        )
+        .await;
+    assert!(
+        typed
+            .text()
+            .contains("row 1: the UUT reading &#34;x&#34; is not a number"),
+        "{}",
+        typed.text()
+    );
+    // Submit: read-only afterwards.
+    let submitted = browser
+        .post_form(
+            &format!("{run_url}/submit"),
+            &[("csrf", &csrf), ("version", &version)],
+        )
+        .await;
+    assert_eq!(
+        submitted.status,
+        StatusCode::SEE_OTHER,
+        "{}",
+        submitted.text()
+    );
+    let html = browser.get(&run_url).await.text();
+    assert!(html.contains("waiting for review"));
+    assert!(!html.contains("Save readings"), "no more forms");
+    assert!(html.contains("This run cannot be changed now."));
+}
