@@ -419,3 +419,59 @@ async fn a_technician_records_a_run_fixes_a_bad_line_and_submits(pool: SqlitePoo
     assert!(!html.contains("Save readings"), "no more forms");
     assert!(html.contains("This run cannot be changed now."));
 }
+
+#[sqlx::test]
+async fn a_logger_file_can_be_uploaded_to_a_set_point(pool: SqlitePool) {
+    let mut browser = signed_in(pool, "demo-tech").await;
+    // Demo run 3 (handheld thermometer in the dry block) is open.
+    let html = browser.get("/runs/3").await.text();
+    let csrf = hidden(&html, "csrf");
+    let version = hidden(&html, "version");
+    let action_start = html.find("/readings\"").expect("readings form");
+    let form_url = html[..action_start]
+        .rsplit("action=\"")
+        .next()
+        .expect("action")
+        .to_owned()
+        + "/readings";
+    let before = html.matches("<td class=\"num\">").count();
+    let bad = browser
+        .post_multipart(
+            &form_url,
+            &[
+                ("csrf", &csrf),
+                ("version", &version),
+                (
+                    "file",
+                    "time,reference,uut\n09:00,-20.01,-20.05\n09:01,-20.00\n",
+                ),
+            ],
+        )
+        .await;
+    assert!(
+        bad.text()
+            .contains("line 3, column 0: 2 columns; the header has 3"),
+        "{}",
+        bad.text()
+    );
+    let good = browser
+        .post_multipart(
+            &form_url,
+            &[
+                ("csrf", &csrf),
+                ("version", &version),
+                (
+                    "file",
+                    "time,reference,uut\n09:00,-20.01,-20.05\n09:01,-20.00,-20.06\n",
+                ),
+            ],
+        )
+        .await;
+    assert_eq!(good.status, StatusCode::SEE_OTHER, "{}", good.text());
+    let after = browser.get("/runs/3").await.text();
+    assert!(
+        after.contains(">09:01<"),
+        "the logger's time stamps are kept"
+    );
+    assert!(after.matches("<td class=\"num\">").count() > before);
+}
