@@ -3,6 +3,7 @@
 //! uploaded as text, and whether equipment may be used on a date.
 //! No SQL and no HTTP here.
 
+pub mod certificates;
 pub mod coefficients;
 pub mod readings;
 pub mod results;

@@ -1,7 +1,9 @@
 //! Rendering of results for people: the deviation plot (SVG) now;
 //! certificates (HTML, PDF, JSON) join here.
 
+pub mod pdf;
 pub mod plot;
+pub mod snapshot;
 
 use crate::metrology::calib::RunResult;
 

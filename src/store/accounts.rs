@@ -238,3 +238,19 @@ pub async fn revoke_token(
     .await?;
     Ok(done.rows_affected() > 0)
 }
+
+/// Finds a user by id.
+///
+/// # Errors
+/// Any database error.
+pub async fn user_by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<User>> {
+    let row = sqlx::query_as!(
+        UserRow,
+        r#"SELECT id AS "id!: i64", username, display_name, role, password_hash, active AS "active: bool"
+           FROM app_user WHERE id = ?"#,
+        id
+    )
+    .fetch_optional(conn)
+    .await?;
+    row.map(User::try_from).transpose()
+}

@@ -6,6 +6,7 @@
 
 pub mod accounts;
 pub mod audit;
+pub mod certificates;
 pub mod equipment;
 pub mod lab;
 pub mod records;

@@ -404,3 +404,26 @@ pub async fn delete_set_point(
     .await?;
     Ok(done.rows_affected() == 1)
 }
+
+/// Sets a run's review state: `approved`, or `returned` with the reason.
+///
+/// # Errors
+/// Any database error.
+pub async fn set_review_state(
+    conn: &mut SqliteConnection,
+    id: i64,
+    status: &str,
+    reason: Option<&str>,
+) -> sqlx::Result<()> {
+    let now = super::now_timestamp();
+    sqlx::query!(
+        "UPDATE run SET status = ?, returned_reason = ?, updated_at = ?, version = version + 1 WHERE id = ?",
+        status,
+        reason,
+        now,
+        id
+    )
+    .execute(conn)
+    .await?;
+    Ok(())
+}

@@ -3,6 +3,7 @@
 //! real binary and talk to it over HTTP.
 
 mod accounts;
+mod certificates;
 mod compute;
 mod foundation;
 mod helpers;

@@ -475,3 +475,78 @@ async fn a_logger_file_can_be_uploaded_to_a_set_point(pool: SqlitePool) {
     );
     assert!(after.matches("<td class=\"num\">").count() > before);
 }
+
+#[sqlx::test]
+async fn a_reviewer_approves_the_demo_run_and_reads_its_certificate(pool: SqlitePool) {
+    let mut browser = signed_in(pool, "demo-reviewer").await;
+    let queue = browser.get("/review").await.text();
+    assert!(queue.contains("href=\"/runs/1\""), "{queue}");
+    let run = browser.get("/runs/1").await.text();
+    assert!(run.contains("Approve and issue the certificate"));
+    let csrf = hidden(&run, "csrf");
+    let version = hidden(&run, "version");
+    let approved = browser
+        .post_form("/runs/1/approve", &[("csrf", &csrf), ("version", &version)])
+        .await;
+    assert_eq!(
+        approved.status,
+        StatusCode::SEE_OTHER,
+        "{}",
+        approved.text()
+    );
+    let url = location(&approved);
+    // The demo lab numbers certificates LTM-{year}-{seq:4}.
+    assert!(
+        url.starts_with("/certificates/LTM-") && url.ends_with("-0001"),
+        "{url}"
+    );
+    let html = browser.get(&url).await.text();
+    // ISO/IEC 17025:2017 7.8.2.1 and 7.8.4 items (REQUIREMENTS.md 1.1, 1.2).
+    for item in [
+        "Calibration Certificate",
+        "Larchmere Thermal Metrology",
+        "Unit 7, Foundry Lane",
+        "Corrow Valley Water Authority (invented)",
+        "CVW-PT-1187",
+        "LTM-P-04 rev 3",
+        "2026-11-18",
+        "LTM-BATH-07",
+        "Immersion",
+        "as found",
+        "U, °C",
+        "Deviation function",
+        "IEC 60751:2008 class A",
+        "ENSL-26-0310",
+        "Example National Standards Laboratory (invented)",
+        "relate only to the item calibrated",
+        "Rowan Pike (demo reviewer)",
+        "Tamsin Hale (demo technician)",
+        "End of certificate",
+    ] {
+        assert!(html.contains(item), "certificate page lacks {item:?}");
+    }
+    let pdf = browser.get(&format!("{url}/pdf")).await;
+    assert_eq!(pdf.status, StatusCode::OK);
+    assert_eq!(pdf.headers["content-type"], "application/pdf");
+    assert!(pdf.body.starts_with(b"%PDF-"));
+    let again = browser.get(&format!("{url}/pdf")).await;
+    assert_eq!(pdf.body, again.body, "rendered twice, the same bytes");
+    // The technician's own run cannot be approved by its technician.
+    let mut tech = Browser {
+        app: browser.app.clone(),
+        cookies: Vec::new(),
+    };
+    let page = tech.get("/sign-in").await;
+    let csrf = hidden(&page.text(), "csrf");
+    tech.post_form(
+        "/sign-in",
+        &[
+            ("csrf", &csrf),
+            ("username", "demo-tech"),
+            ("password", "juncture-demo"),
+        ],
+    )
+    .await;
+    let run = tech.get("/runs/2").await.text();
+    assert!(!run.contains("Approve and issue"));
+}

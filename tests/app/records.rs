@@ -80,6 +80,7 @@ fn ok(answer: &Answer, status: StatusCode) -> Value {
 /// The people and equipment of a small lab.
 pub struct Lab {
     pub app: Router,
+    pub pool: SqlitePool,
     pub admin: String,
     pub tech: String,
     pub reviewer: String,
@@ -91,7 +92,7 @@ pub async fn lab(pool: SqlitePool) -> Lab {
     let tech = token_for(&pool, "tomas", Role::Technician, Scope::Write).await;
     let reviewer = token_for(&pool, "rhea", Role::Reviewer, Scope::Write).await;
     let reader = token_for(&pool, "lims", Role::Technician, Scope::Read).await;
-    let app = app(pool);
+    let app = app(pool.clone());
     // A reference PRT with its certificate (invented), a DMM and a bath.
     ok(
         &call(
@@ -144,6 +145,7 @@ pub async fn lab(pool: SqlitePool) -> Lab {
         "ranges": [{"t_lo_c": -40.0, "t_hi_c": 200.0, "uniformity_half_width_c": 0.01, "stability_half_width_c": 0.005}]}))).await, StatusCode::CREATED);
     Lab {
         app,
+        pool,
         admin,
         tech,
         reviewer,

@@ -1,7 +1,7 @@
 //! Browser tests: the real binary with the demo lab, driven in headless
 //! Chromium over WebDriver (Debian's `chromium` and `chromium-driver`).
 //!
-//! Run with `cargo test --features browser-tests --test browser` after
+//! Run with `cargo test --features system-tests --test browser` after
 //! `apt-get install chromium chromium-driver` (`.ci/run` does both). The
 //! WebDriver client below speaks the W3C protocol over plain HTTP on
 //! loopback, so the tests need no extra crates.

@@ -7,6 +7,7 @@ pub mod openapi;
 pub mod records;
 pub mod reference;
 pub mod results;
+pub mod review;
 pub mod runs;
 
 use axum::Router;
@@ -84,5 +85,23 @@ pub fn routes() -> Router<AppState> {
         )
         .route("/api/v1/runs/{id}/submit", post(runs::submit))
         .route("/api/v1/runs/{id}/results", get(results::get))
+        .route("/api/v1/runs/{id}/approve", post(review::approve))
+        .route(
+            "/api/v1/runs/{id}/return",
+            post(review::return_to_technician),
+        )
+        .route("/api/v1/review", get(review::queue))
+        .route(
+            "/api/v1/certificates/{number}",
+            get(review::certificate_json),
+        )
+        .route(
+            "/api/v1/instruments/{serial}/deviation",
+            get(review::deviation),
+        )
+        .route(
+            "/api/v1/instruments/{serial}/deviation/evaluate",
+            get(review::evaluate),
+        )
         .route("/api/v1/impact", get(runs::impact))
 }

@@ -3,6 +3,7 @@
 
 pub mod auth;
 pub mod convert;
+pub mod review;
 pub mod runs;
 
 use askama::Template;
@@ -40,6 +41,14 @@ pub fn routes() -> Router<AppState> {
             axum::routing::post(runs::delete_set_point),
         )
         .route("/runs/{id}/submit", axum::routing::post(runs::submit))
+        .route("/runs/{id}/approve", axum::routing::post(review::approve))
+        .route(
+            "/runs/{id}/return",
+            axum::routing::post(review::return_to_technician),
+        )
+        .route("/review", get(review::queue))
+        .route("/certificates/{number}", get(review::certificate))
+        .route("/certificates/{number}/pdf", get(review::certificate_pdf))
 }
 
 /// What the page header shows about the signed-in person.

@@ -573,6 +573,10 @@ struct RunPage {
     run_warnings: Vec<String>,
     page_errors: HashMap<String, String>,
     new_set_point: String,
+    /// The viewer may approve or return this run.
+    reviewable: bool,
+    /// The run's certificate, once issued.
+    certificate: Option<String>,
 }
 
 impl RunPage {
@@ -835,7 +839,16 @@ async fn run_render(
         .as_ref()
         .map(|c| c.warnings.iter().map(|w| w.message.clone()).collect())
         .unwrap_or_default();
+    let reviewable = run.status == "submitted"
+        && matches!(user.user.role, Role::Reviewer | Role::Administrator)
+        && run.technician_id != user.user.id;
+    let certificate = crate::store::certificates::latest_for_run(&mut conn, id)
+        .await
+        .map_err(AppError::from)?
+        .map(|(number, _)| number);
     let page = RunPage {
+        reviewable,
+        certificate,
         nav: Nav::of(Some(user)),
         csrf: user.csrf.clone(),
         run_id: id,

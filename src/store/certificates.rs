@@ -1,0 +1,204 @@
+//! Issued certificates (append-only) and their numbering.
+
+use serde::Serialize;
+use sqlx::SqliteConnection;
+
+/// A stored certificate.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Certificate {
+    /// Row id.
+    pub id: i64,
+    /// Number.
+    pub number: String,
+    /// Revision.
+    pub revision: i64,
+    /// The run it reports.
+    pub run_id: i64,
+    /// The instrument.
+    pub instrument_id: i64,
+    /// Issue date.
+    pub issued_on: String,
+    /// Approver's user id.
+    pub approved_by: i64,
+    /// Canonical JSON snapshot.
+    pub snapshot: String,
+    /// SHA-256 of the snapshot.
+    pub sha256: String,
+    /// The row this one replaces.
+    pub replaces_id: Option<i64>,
+    /// Why it replaces it.
+    pub amendment_reason: Option<String>,
+    /// The row that replaced this one, if any.
+    pub replaced_by_id: Option<i64>,
+}
+
+/// Takes the next sequence number of `year`.
+///
+/// # Errors
+/// Any database error.
+pub async fn next_sequence(conn: &mut SqliteConnection, year: i64) -> sqlx::Result<i64> {
+    let next = sqlx::query_scalar!(
+        r#"INSERT INTO certificate_sequence (year, last) VALUES (?, 1)
+           ON CONFLICT (year) DO UPDATE SET last = last + 1
+           RETURNING last AS "last!: i64""#,
+        year
+    )
+    .fetch_one(conn)
+    .await?;
+    Ok(next)
+}
+
+/// Fields of a new certificate row.
+#[derive(Debug, Clone)]
+pub struct NewCertificate<'a> {
+    /// Number.
+    pub number: &'a str,
+    /// Revision.
+    pub revision: i64,
+    /// Run.
+    pub run_id: i64,
+    /// Instrument.
+    pub instrument_id: i64,
+    /// Issue date.
+    pub issued_on: &'a str,
+    /// Approver.
+    pub approved_by: i64,
+    /// Snapshot JSON.
+    pub snapshot: &'a str,
+    /// Its SHA-256.
+    pub sha256: &'a str,
+    /// Replaced row.
+    pub replaces_id: Option<i64>,
+    /// Amendment reason.
+    pub amendment_reason: Option<&'a str>,
+}
+
+/// Inserts a certificate; returns its id.
+///
+/// # Errors
+/// Any database error.
+pub async fn insert(conn: &mut SqliteConnection, c: &NewCertificate<'_>) -> sqlx::Result<i64> {
+    let now = super::now_timestamp();
+    sqlx::query_scalar!(
+        r#"INSERT INTO certificate (number, revision, run_id, instrument_id, issued_on, approved_by,
+               snapshot, sha256, replaces_id, amendment_reason, created_at)
+           VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING id AS "id!: i64""#,
+        c.number,
+        c.revision,
+        c.run_id,
+        c.instrument_id,
+        c.issued_on,
+        c.approved_by,
+        c.snapshot,
+        c.sha256,
+        c.replaces_id,
+        c.amendment_reason,
+        now
+    )
+    .fetch_one(conn)
+    .await
+}
+
+/// Records that `old_id` was replaced by `new_id`.
+///
+/// # Errors
+/// Any database error (a row can be replaced only once).
+pub async fn mark_replaced(
+    conn: &mut SqliteConnection,
+    old_id: i64,
+    new_id: i64,
+) -> sqlx::Result<()> {
+    let now = super::now_timestamp();
+    sqlx::query!(
+        "INSERT INTO certificate_replacement (certificate_id, replaced_by_id, replaced_at) VALUES (?, ?, ?)",
+        old_id,
+        new_id,
+        now
+    )
+    .execute(conn)
+    .await?;
+    Ok(())
+}
+
+/// A certificate by number and revision (latest revision when `None`).
+///
+/// # Errors
+/// Any database error.
+pub async fn by_number(
+    conn: &mut SqliteConnection,
+    number: &str,
+    revision: Option<i64>,
+) -> sqlx::Result<Option<Certificate>> {
+    let revision = revision.unwrap_or(-1);
+    sqlx::query_as!(
+        Certificate,
+        r#"SELECT c.id AS "id!: i64", c.number, c.revision, c.run_id, c.instrument_id, c.issued_on,
+                  c.approved_by, c.snapshot, c.sha256, c.replaces_id, c.amendment_reason,
+                  r.replaced_by_id AS "replaced_by_id?: i64"
+           FROM certificate c LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
+           WHERE c.number = ?1 AND (c.revision = ?2 OR (?2 = -1 AND c.revision =
+                 (SELECT MAX(revision) FROM certificate WHERE number = ?1)))"#,
+        number,
+        revision
+    )
+    .fetch_optional(conn)
+    .await
+}
+
+/// The current certificate of an instrument: the latest issued that has
+/// not been replaced.
+///
+/// # Errors
+/// Any database error.
+pub async fn current_for_instrument(
+    conn: &mut SqliteConnection,
+    instrument_id: i64,
+) -> sqlx::Result<Option<Certificate>> {
+    sqlx::query_as!(
+        Certificate,
+        r#"SELECT c.id AS "id!: i64", c.number, c.revision, c.run_id, c.instrument_id, c.issued_on,
+                  c.approved_by, c.snapshot, c.sha256, c.replaces_id, c.amendment_reason,
+                  r.replaced_by_id AS "replaced_by_id?: i64"
+           FROM certificate c LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
+           WHERE c.instrument_id = ? AND r.replaced_by_id IS NULL
+           ORDER BY c.issued_on DESC, c.id DESC LIMIT 1"#,
+        instrument_id
+    )
+    .fetch_optional(conn)
+    .await
+}
+
+/// Certificates, newest first (for the register), at most `limit`.
+///
+/// # Errors
+/// Any database error.
+pub async fn latest(conn: &mut SqliteConnection, limit: i64) -> sqlx::Result<Vec<Certificate>> {
+    sqlx::query_as!(
+        Certificate,
+        r#"SELECT c.id AS "id!: i64", c.number, c.revision, c.run_id, c.instrument_id, c.issued_on,
+                  c.approved_by, c.snapshot, c.sha256, c.replaces_id, c.amendment_reason,
+                  r.replaced_by_id AS "replaced_by_id?: i64"
+           FROM certificate c LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
+           ORDER BY c.id DESC LIMIT ?"#,
+        limit
+    )
+    .fetch_all(conn)
+    .await
+}
+
+/// The latest certificate issued for a run.
+///
+/// # Errors
+/// Any database error.
+pub async fn latest_for_run(
+    conn: &mut SqliteConnection,
+    run_id: i64,
+) -> sqlx::Result<Option<(String, i64)>> {
+    let row = sqlx::query!(
+        r#"SELECT number, revision AS "revision!: i64" FROM certificate WHERE run_id = ? ORDER BY revision DESC LIMIT 1"#,
+        run_id
+    )
+    .fetch_optional(conn)
+    .await?;
+    Ok(row.map(|r| (r.number, r.revision)))
+}

@@ -1,0 +1,498 @@
+//! Review and certificates: the review queue, approval (which issues a
+//! certificate), return to the technician, certificate snapshots and the
+//! deviation-function API of an instrument's current certificate.
+
+use axum::Json;
+use axum::extract::{Path, State};
+use axum::http::{HeaderMap, HeaderValue, StatusCode, header};
+use axum::response::{IntoResponse, Response};
+use serde::{Deserialize, Serialize};
+
+use super::records::{ApiResult, record};
+use super::runs::run_or_404;
+use crate::domain::certificates::{Issue, build_snapshot, compute, expand_pattern};
+use crate::report::snapshot::CertificateSnapshot;
+use crate::store::accounts::Role;
+use crate::store::runs::{self, Run};
+use crate::store::{self, certificates, lab, records};
+use crate::web::auth::Caller;
+use crate::web::extract::{ApiJson, ApiQuery};
+use crate::web::{AppError, AppState};
+
+/// Roles that review.
+pub const REVIEW_ROLES: &[Role] = &[Role::Reviewer, Role::Administrator];
+
+/// `GET /api/v1/review`: runs waiting for review, oldest first.
+pub async fn queue(State(state): State<AppState>, _caller: Caller) -> ApiResult<Json<Vec<Run>>> {
+    let mut conn = state.db.acquire().await?;
+    let mut waiting: Vec<Run> = runs::all(&mut conn)
+        .await?
+        .into_iter()
+        .filter(|r| r.status == "submitted")
+        .collect();
+    waiting.reverse();
+    Ok(Json(waiting))
+}
+
+/// Body of an approval.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ApproveBody {
+    /// The run version reviewed.
+    pub version: i64,
+}
+
+/// The certificate an approval issued.
+#[derive(Debug, Serialize)]
+pub struct Issued {
+    /// Number.
+    pub number: String,
+    /// Revision.
+    pub revision: i64,
+    /// Issue date.
+    pub issued_on: String,
+    /// SHA-256 of the snapshot.
+    pub sha256: String,
+}
+
+fn today() -> (String, i64) {
+    let now = time::OffsetDateTime::now_utc();
+    let text = now
+        .date()
+        .format(&time::macros::format_description!("[year]-[month]-[day]"))
+        .unwrap_or_default();
+    (text, i64::from(now.year()))
+}
+
+/// Approves run `id` and issues its certificate (revision 0).
+///
+/// # Errors
+/// 403 for the wrong role or for approving one's own run, 409 for a run not
+/// waiting for review or a stale version, 422 when results cannot be computed.
+pub async fn approve_run(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    id: i64,
+    version: i64,
+) -> ApiResult<Issued> {
+    caller.may_change(REVIEW_ROLES, "approving runs")?;
+    let mut tx = store::begin_write(db).await?;
+    let run = run_or_404(&mut tx, id).await?;
+    if run.technician_id == caller.user_id {
+        return Err(AppError::Forbidden(format!(
+            "you performed run {id}; another person must review and approve it"
+        ))
+        .into());
+    }
+    if run.status != "submitted" {
+        return Err(AppError::Conflict(format!(
+            "run {id} is not waiting for review (it is {})",
+            run.status
+        ))
+        .into());
+    }
+    if run.version != version {
+        return Err(AppError::Conflict(format!(
+            "run {id} has changed since you loaded it (version {version}, now {}); reload it",
+            run.version
+        ))
+        .into());
+    }
+    let results = compute(&mut tx, &run)
+        .await
+        .map_err(super::results::results_error)?;
+    let (issued_on, year) = today();
+    let pattern = lab::get(&mut tx).await?.map_or_else(
+        || "C{year}-{seq:5}".to_owned(),
+        |l| l.certificate_number_pattern,
+    );
+    let seq = certificates::next_sequence(&mut tx, year).await?;
+    let number = expand_pattern(&pattern, year, seq);
+    let snapshot = build_snapshot(
+        &mut tx,
+        Issue {
+            run: &run,
+            results: &results,
+            number: &number,
+            revision: 0,
+            replaces: None,
+            issued_on: &issued_on,
+            approved_by: &caller.display_name,
+        },
+    )
+    .await
+    .map_err(super::results::results_error)?;
+    let json = snapshot
+        .canonical_json()
+        .map_err(|e| AppError::Internal(e.to_string()))?;
+    let sha256 = snapshot
+        .fingerprint()
+        .map_err(|e| AppError::Internal(e.to_string()))?;
+    let instrument_id = run.instrument_id;
+    certificates::insert(
+        &mut tx,
+        &certificates::NewCertificate {
+            number: &number,
+            revision: 0,
+            run_id: id,
+            instrument_id,
+            issued_on: &issued_on,
+            approved_by: caller.user_id,
+            snapshot: &json,
+            sha256: &sha256,
+            replaces_id: None,
+            amendment_reason: None,
+        },
+    )
+    .await
+    .map_err(super::records::unique(format!(
+        "certificate number {number} is taken; check the lab's number pattern"
+    )))?;
+    runs::set_review_state(&mut tx, id, "approved", None).await?;
+    let after = serde_json::json!({"certificate": number, "revision": 0, "sha256": sha256});
+    record(
+        &mut tx,
+        caller,
+        "approve",
+        "run",
+        &id.to_string(),
+        None,
+        Some(&after),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok(Issued {
+        number,
+        revision: 0,
+        issued_on,
+        sha256,
+    })
+}
+
+/// `POST /api/v1/runs/{id}/approve`.
+pub async fn approve(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path(id): Path<i64>,
+    ApiJson(body): ApiJson<ApproveBody>,
+) -> ApiResult<(StatusCode, Json<Issued>)> {
+    let issued = approve_run(&state.db, &caller, id, body.version).await?;
+    Ok((StatusCode::CREATED, Json(issued)))
+}
+
+/// Body of a return.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ReturnBody {
+    /// The run version reviewed.
+    pub version: i64,
+    /// What the technician must change.
+    pub reason: String,
+}
+
+/// Returns run `id` to its technician with a reason.
+///
+/// # Errors
+/// 403, 409, 422 (empty reason).
+pub async fn return_run(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    id: i64,
+    version: i64,
+    reason: &str,
+) -> ApiResult<Run> {
+    caller.may_change(REVIEW_ROLES, "returning runs")?;
+    if reason.trim().is_empty() {
+        return Err(AppError::invalid("reason", "say what the technician must change").into());
+    }
+    let mut tx = store::begin_write(db).await?;
+    let run = run_or_404(&mut tx, id).await?;
+    if run.status != "submitted" {
+        return Err(AppError::Conflict(format!(
+            "run {id} is not waiting for review (it is {})",
+            run.status
+        ))
+        .into());
+    }
+    if run.version != version {
+        return Err(AppError::Conflict(format!(
+            "run {id} has changed since you loaded it; reload it"
+        ))
+        .into());
+    }
+    runs::set_review_state(&mut tx, id, "returned", Some(reason.trim())).await?;
+    let after = run_or_404(&mut tx, id).await?;
+    let before = serde_json::to_value(&run).unwrap_or_default();
+    let after_json = serde_json::to_value(&after).unwrap_or_default();
+    record(
+        &mut tx,
+        caller,
+        "return",
+        "run",
+        &id.to_string(),
+        Some(&before),
+        Some(&after_json),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok(after)
+}
+
+/// `POST /api/v1/runs/{id}/return`.
+pub async fn return_to_technician(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path(id): Path<i64>,
+    ApiJson(body): ApiJson<ReturnBody>,
+) -> ApiResult<Json<Run>> {
+    Ok(Json(
+        return_run(&state.db, &caller, id, body.version, &body.reason).await?,
+    ))
+}
+
+/// Query naming a revision.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RevisionQuery {
+    /// Revision (default: the latest).
+    pub revision: Option<i64>,
+}
+
+fn etag(sha256: &str) -> String {
+    format!("\"{sha256}\"")
+}
+
+fn not_modified(headers: &HeaderMap, tag: &str) -> bool {
+    headers
+        .get(header::IF_NONE_MATCH)
+        .and_then(|v| v.to_str().ok())
+        .is_some_and(|v| v.split(',').any(|t| t.trim() == tag))
+}
+
+/// `GET /api/v1/certificates/{number}`: the frozen snapshot, byte for byte.
+pub async fn certificate_json(
+    State(state): State<AppState>,
+    _caller: Caller,
+    Path(number): Path<String>,
+    ApiQuery(q): ApiQuery<RevisionQuery>,
+) -> ApiResult<Response> {
+    let mut conn = state.db.acquire().await?;
+    let c = certificates::by_number(&mut conn, &number, q.revision)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
+    let mut response = ([(header::CONTENT_TYPE, "application/json")], c.snapshot).into_response();
+    let h = response.headers_mut();
+    if let Ok(v) = HeaderValue::from_str(&c.sha256) {
+        h.insert("x-certificate-sha256", v);
+    }
+    if let Ok(v) = HeaderValue::from_str(&etag(&c.sha256)) {
+        h.insert(header::ETAG, v);
+    }
+    Ok(response)
+}
+
+async fn current(
+    conn: &mut sqlx::SqliteConnection,
+    serial: &str,
+) -> Result<(certificates::Certificate, CertificateSnapshot), AppError> {
+    let instrument = records::instrument_by_serial(conn, serial)
+        .await?
+        .ok_or_else(|| {
+            AppError::NotFound(format!(
+                "there is no instrument with serial number {serial:?}"
+            ))
+        })?;
+    let c = certificates::current_for_instrument(conn, instrument.id)
+        .await?
+        .ok_or_else(|| {
+            AppError::NotFound(format!("instrument {serial} has no issued certificate"))
+        })?;
+    let snapshot: CertificateSnapshot = serde_json::from_str(&c.snapshot)
+        .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
+    Ok((c, snapshot))
+}
+
+/// The deviation function of an instrument's current certificate (stable
+/// API contract, DESIGN.md section 5).
+#[derive(Debug, Serialize)]
+pub struct DeviationOut {
+    /// Serial number.
+    pub serial: String,
+    /// Certificate number.
+    pub certificate_number: String,
+    /// Revision.
+    pub revision: i64,
+    /// Issue date.
+    pub issued_on: String,
+    /// "polynomial".
+    pub form: String,
+    /// "t_c".
+    pub variable: String,
+    /// `coefficients[i]` multiplies t_c^i; deviation = indication − reference, °C.
+    pub coefficients: Vec<f64>,
+    /// Covariance of the coefficients.
+    pub covariance: Vec<Vec<f64>>,
+    /// Emf deviation coefficients, mV (thermocouples).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub emf_coefficients: Option<Vec<f64>>,
+    /// Lower end of validity, °C.
+    pub valid_from_t_c: f64,
+    /// Upper end of validity, °C.
+    pub valid_to_t_c: f64,
+    /// Expanded uncertainty of a corrected reading, °C.
+    pub expanded_uncertainty_c: f64,
+    /// Its coverage factor.
+    pub coverage_factor: f64,
+    /// SHA-256 of the certificate snapshot.
+    pub certificate_sha256: String,
+}
+
+/// `GET /api/v1/instruments/{serial}/deviation`.
+pub async fn deviation(
+    State(state): State<AppState>,
+    _caller: Caller,
+    headers: HeaderMap,
+    Path(serial): Path<String>,
+) -> ApiResult<Response> {
+    let mut conn = state.db.acquire().await?;
+    let (c, s) = current(&mut conn, &serial).await?;
+    let tag = etag(&c.sha256);
+    let cache = [
+        (header::ETAG, tag.clone()),
+        (header::CACHE_CONTROL, "private, no-cache".to_owned()),
+    ];
+    if not_modified(&headers, &tag) {
+        return Ok((StatusCode::NOT_MODIFIED, cache).into_response());
+    }
+    let f = s.deviation_function.ok_or_else(|| {
+        AppError::NotFound(format!(
+            "certificate {} has no deviation function",
+            c.number
+        ))
+    })?;
+    let out = DeviationOut {
+        serial,
+        certificate_number: c.number,
+        revision: c.revision,
+        issued_on: c.issued_on,
+        form: f.form,
+        variable: f.variable,
+        coefficients: f.coefficients,
+        covariance: f.covariance,
+        emf_coefficients: f.emf_coefficients,
+        valid_from_t_c: f.valid_from_t_c,
+        valid_to_t_c: f.valid_to_t_c,
+        expanded_uncertainty_c: f.expanded_uncertainty_c,
+        coverage_factor: f.coverage_factor,
+        certificate_sha256: c.sha256,
+    };
+    Ok((cache, Json(out)).into_response())
+}
+
+/// Query of the evaluate endpoint.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EvaluateQuery {
+    /// Temperature, °C.
+    pub t_c: f64,
+}
+
+/// The deviation function at one temperature.
+#[derive(Debug, Serialize)]
+pub struct EvaluateOut {
+    /// Temperature, °C.
+    pub t_c: f64,
+    /// Deviation (indication − reference), °C.
+    pub deviation_c: f64,
+    /// Correction (−deviation), °C.
+    pub correction_c: f64,
+    /// Expanded uncertainty of a corrected reading, °C.
+    pub expanded_uncertainty_c: f64,
+    /// Its coverage factor.
+    pub coverage_factor: f64,
+    /// Certificate number.
+    pub certificate_number: String,
+}
+
+/// `GET /api/v1/instruments/{serial}/deviation/evaluate?t_c=..`.
+pub async fn evaluate(
+    State(state): State<AppState>,
+    _caller: Caller,
+    Path(serial): Path<String>,
+    ApiQuery(q): ApiQuery<EvaluateQuery>,
+) -> ApiResult<Json<EvaluateOut>> {
+    let mut conn = state.db.acquire().await?;
+    let (c, s) = current(&mut conn, &serial).await?;
+    let f = s.deviation_function.ok_or_else(|| {
+        AppError::NotFound(format!(
+            "certificate {} has no deviation function",
+            c.number
+        ))
+    })?;
+    if !q.t_c.is_finite() {
+        return Err(AppError::invalid("t_c", "must be a finite temperature in °C").into());
+    }
+    if q.t_c < f.valid_from_t_c || q.t_c > f.valid_to_t_c {
+        return Err(AppError::invalid(
+            "t_c",
+            format!(
+                "{} °C is outside the range the deviation function of certificate {} is valid for, {:.3} °C to {:.3} °C; it is never extrapolated",
+                q.t_c, c.number, f.valid_from_t_c, f.valid_to_t_c
+            ),
+        )
+        .into());
+    }
+    let deviation_c = crate::domain::coefficients::poly(&f.coefficients, q.t_c);
+    Ok(Json(EvaluateOut {
+        t_c: q.t_c,
+        deviation_c,
+        correction_c: -deviation_c,
+        expanded_uncertainty_c: f.expanded_uncertainty_c,
+        coverage_factor: f.coverage_factor,
+        certificate_number: c.number,
+    }))
+}
+
+/// `GET /api/v1/certificates/{number}/pdf`: the certificate as PDF, rendered
+/// from the frozen snapshot (the same bytes every time).
+pub async fn certificate_pdf(
+    State(state): State<AppState>,
+    _caller: Caller,
+    Path(number): Path<String>,
+    ApiQuery(q): ApiQuery<RevisionQuery>,
+) -> ApiResult<Response> {
+    let mut conn = state.db.acquire().await?;
+    let c = certificates::by_number(&mut conn, &number, q.revision)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
+    drop(conn);
+    let pdf = pdf_of(&c.snapshot).await?;
+    let disposition = format!(
+        "inline; filename=\"{}-rev{}.pdf\"",
+        c.number.replace(['"', '\\', '/'], "_"),
+        c.revision
+    );
+    let mut response = ([(header::CONTENT_TYPE, "application/pdf")], pdf).into_response();
+    if let Ok(v) = HeaderValue::from_str(&disposition) {
+        response
+            .headers_mut()
+            .insert(header::CONTENT_DISPOSITION, v);
+    }
+    if let Ok(v) = HeaderValue::from_str(&etag(&c.sha256)) {
+        response.headers_mut().insert(header::ETAG, v);
+    }
+    Ok(response)
+}
+
+/// Renders a stored snapshot as PDF off the async workers.
+///
+/// # Errors
+/// A stored snapshot that cannot be read, or a rendering failure.
+pub async fn pdf_of(snapshot_json: &str) -> Result<Vec<u8>, AppError> {
+    let snapshot: CertificateSnapshot = serde_json::from_str(snapshot_json)
+        .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
+    tokio::task::spawn_blocking(move || crate::report::pdf::render_pdf(&snapshot))
+        .await
+        .map_err(|e| AppError::Internal(format!("PDF task failed: {e}")))?
+        .map_err(|e| AppError::Internal(format!("PDF rendering failed: {e}")))
+}

@@ -1,0 +1,221 @@
+//! The reviewer's pages: the review queue, approving or returning a run,
+//! and the certificate as a page.
+
+use std::collections::HashMap;
+
+use askama::Template;
+use axum::Form;
+use axum::extract::{Path, State};
+use axum::http::header;
+use axum::response::{Html, IntoResponse, Redirect, Response};
+
+use super::{Nav, PageError};
+use crate::report::snapshot::CertificateSnapshot;
+use crate::store::{certificates, records, runs};
+use crate::web::api::records::ApiError;
+use crate::web::api::review::{approve_run, pdf_of, return_run};
+use crate::web::auth::AuthError;
+use crate::web::session::PageUser;
+use crate::web::{AppError, AppState};
+
+/// A run waiting for review.
+#[derive(Debug)]
+pub struct Waiting {
+    id: i64,
+    serial: String,
+    performed_on: String,
+    submitted_at: String,
+}
+
+#[derive(Template)]
+#[template(path = "review.html")]
+struct ReviewPage {
+    nav: Nav,
+    waiting: Vec<Waiting>,
+}
+
+/// `GET /review`.
+pub async fn queue(
+    State(state): State<AppState>,
+    user: PageUser,
+) -> Result<Html<String>, PageError> {
+    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
+    let mut waiting = Vec::new();
+    for run in runs::all(&mut conn).await.map_err(AppError::from)? {
+        if run.status != "submitted" {
+            continue;
+        }
+        let serial = records::instrument_by_id(&mut conn, run.instrument_id)
+            .await
+            .map_err(AppError::from)?
+            .map_or_else(String::new, |i| i.serial);
+        waiting.push(Waiting {
+            id: run.id,
+            serial,
+            performed_on: run.performed_on,
+            submitted_at: run.submitted_at.unwrap_or_default(),
+        });
+    }
+    waiting.reverse();
+    let page = ReviewPage {
+        nav: Nav::of(Some(&user)),
+        waiting,
+    };
+    Ok(Html(page.render().map_err(AppError::from)?))
+}
+
+fn page_error(e: ApiError) -> PageError {
+    match e {
+        ApiError::App(a) => PageError(a),
+        ApiError::Auth(AuthError::Forbidden(m) | AuthError::Unauthenticated(m)) => {
+            PageError(AppError::Forbidden(m))
+        }
+        ApiError::Auth(AuthError::Store(a)) => PageError(a),
+    }
+}
+
+fn version_of(values: &HashMap<String, String>) -> i64 {
+    values
+        .get("version")
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(0)
+}
+
+/// `POST /runs/{id}/approve`.
+pub async fn approve(
+    State(state): State<AppState>,
+    user: PageUser,
+    Path(id): Path<i64>,
+    Form(values): Form<HashMap<String, String>>,
+) -> Result<Response, PageError> {
+    user.check_csrf(values.get("csrf").map_or("", String::as_str))?;
+    let issued = approve_run(&state.db, &user.caller(), id, version_of(&values))
+        .await
+        .map_err(page_error)?;
+    Ok(Redirect::to(&format!("/certificates/{}", issued.number)).into_response())
+}
+
+/// `POST /runs/{id}/return`.
+pub async fn return_to_technician(
+    State(state): State<AppState>,
+    user: PageUser,
+    Path(id): Path<i64>,
+    Form(values): Form<HashMap<String, String>>,
+) -> Result<Response, PageError> {
+    user.check_csrf(values.get("csrf").map_or("", String::as_str))?;
+    let reason = values.get("reason").map_or("", String::as_str);
+    return_run(&state.db, &user.caller(), id, version_of(&values), reason)
+        .await
+        .map_err(page_error)?;
+    Ok(Redirect::to("/review").into_response())
+}
+
+#[derive(Template)]
+#[template(path = "certificate.html")]
+struct CertificatePage {
+    nav: Nav,
+    c: CertificateSnapshot,
+    sha256: String,
+    replaced: bool,
+    plot_svg: String,
+}
+
+fn opt(v: Option<f64>, unit: &str) -> String {
+    v.map_or_else(|| "not recorded".to_owned(), |v| format!("{v} {unit}"))
+}
+
+impl CertificatePage {
+    fn ambient(&self) -> String {
+        format!(
+            "{}, relative humidity {}",
+            opt(self.c.conditions.ambient_t_c, "°C"),
+            opt(self.c.conditions.ambient_rh_percent, "%")
+        )
+    }
+    fn immersion(&self) -> String {
+        opt(self.c.conditions.immersion_mm, "mm")
+    }
+    fn coefficient(&self, i: &usize, value: &f64) -> String {
+        match i {
+            0 => format!("c0 = {value:.7e} °C"),
+            1 => format!("c1 = {value:.7e} °C/°C"),
+            i => format!("c{i} = {value:.7e} °C/°C^{i}"),
+        }
+    }
+}
+
+/// `GET /certificates/{number}`: the latest revision as a page.
+pub async fn certificate(
+    State(state): State<AppState>,
+    user: PageUser,
+    Path(number): Path<String>,
+) -> Result<Html<String>, PageError> {
+    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
+    let row = certificates::by_number(&mut conn, &number, None)
+        .await
+        .map_err(AppError::from)?
+        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
+    let c: CertificateSnapshot = serde_json::from_str(&row.snapshot)
+        .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
+    let plot = crate::report::plot::DeviationPlot {
+        title: format!("Deviation of {}", c.item.serial),
+        points: c
+            .plot
+            .points
+            .iter()
+            .map(|p| crate::report::plot::PlotPoint {
+                t_c: p[0],
+                deviation_c: p[1],
+                expanded_uncertainty_c: p[2],
+                flagged: false,
+            })
+            .collect(),
+        curve: c
+            .plot
+            .curve
+            .iter()
+            .map(|p| crate::report::plot::CurveSample {
+                t_c: p[0],
+                value_c: p[1],
+                expanded_uncertainty_c: p[2],
+            })
+            .collect(),
+        tolerances: [
+            ("upper tolerance", &c.plot.tolerance_upper),
+            ("lower tolerance", &c.plot.tolerance_lower),
+        ]
+        .into_iter()
+        .filter(|(_, pts)| !pts.is_empty())
+        .map(|(label, pts)| crate::report::plot::ToleranceLine {
+            label: label.to_owned(),
+            points: pts.iter().map(|p| (p[0], p[1])).collect(),
+        })
+        .collect(),
+        width_px: 720,
+        height_px: 380,
+    };
+    let page = CertificatePage {
+        nav: Nav::of(Some(&user)),
+        plot_svg: crate::report::plot::render_svg(&plot),
+        c,
+        sha256: row.sha256,
+        replaced: row.replaced_by_id.is_some(),
+    };
+    Ok(Html(page.render().map_err(AppError::from)?))
+}
+
+/// `GET /certificates/{number}/pdf`.
+pub async fn certificate_pdf(
+    State(state): State<AppState>,
+    _user: PageUser,
+    Path(number): Path<String>,
+) -> Result<Response, PageError> {
+    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
+    let row = certificates::by_number(&mut conn, &number, None)
+        .await
+        .map_err(AppError::from)?
+        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
+    drop(conn);
+    let pdf = pdf_of(&row.snapshot).await?;
+    Ok(([(header::CONTENT_TYPE, "application/pdf")], pdf).into_response())
+}
