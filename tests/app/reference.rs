@@ -301,6 +301,10 @@ async fn the_openapi_document_lists_every_reference_endpoint(pool: SqlitePool) {
         ),
         ("/api/v1/runs/{id}/submit", "post"),
         ("/api/v1/impact", "get"),
+        ("/api/v1/runs/{id}/approve", "post"),
+        ("/api/v1/certificates/{number}/pdf", "get"),
+        ("/api/v1/instruments/{serial}/deviation", "get"),
+        ("/api/v1/instruments/{serial}/deviation/evaluate", "get"),
     ] {
         assert!(
             doc["paths"][path][method].is_object(),
