@@ -1322,8 +1322,10 @@ fn plot_section(lay: &mut Layout<'_>, plot: &PlotBlock) {
     for lim in [&plot.tolerance_upper, &plot.tolerance_lower] {
         let pts: Vec<(f32, f32)> = lim
             .iter()
-            .filter(|l| l[0].is_finite() && l[1].is_finite() && in_x(l[0]))
-            .map(|l| (px(l[0]), py(l[1])))
+            .filter(|l| l[0].is_finite() && l[1].is_finite())
+            // A set point a few mK past the last tick still has its limit:
+            // clamp to the axis instead of dropping it.
+            .map(|l| (px(l[0].clamp(ax.lo, ax.hi)), py(l[1])))
             .collect();
         p.polyline_dashed(&pts, 0.9, LIMIT, Some(&[4.0, 2.5]));
     }
