@@ -202,3 +202,85 @@ pub async fn latest_for_run(
     .await?;
     Ok(row.map(|r| (r.number, r.revision)))
 }
+
+/// A certificate row by number, revision and fingerprint, with whether it
+/// was replaced (by which revision).
+///
+/// # Errors
+/// Any database error.
+pub async fn verify(
+    conn: &mut SqliteConnection,
+    number: &str,
+    sha256: &str,
+) -> sqlx::Result<Option<(i64, Option<i64>)>> {
+    let row = sqlx::query!(
+        r#"SELECT c.revision AS "revision!: i64", n.revision AS "replaced_by_revision?: i64"
+           FROM certificate c
+           LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
+           LEFT JOIN certificate n ON n.id = r.replaced_by_id
+           WHERE c.number = ? AND c.sha256 = ?"#,
+        number,
+        sha256
+    )
+    .fetch_optional(conn)
+    .await?;
+    Ok(row.map(|r| (r.revision, r.replaced_by_revision)))
+}
+
+/// A line of the certificate register.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RegisterLine {
+    /// Row id (the pagination key).
+    pub id: i64,
+    /// Number.
+    pub number: String,
+    /// Revision.
+    pub revision: i64,
+    /// Issue date.
+    pub issued_on: String,
+    /// Instrument serial.
+    pub serial: String,
+    /// Instrument kind.
+    pub kind: String,
+    /// Customer.
+    pub customer: String,
+    /// Whether a later revision replaced it.
+    pub replaced: bool,
+}
+
+/// Certificates newest first, filtered by a text found in the number, the
+/// serial or the customer's name, and by issue dates; keyset pagination
+/// (`before_id`) so that deep pages stay as fast as the first.
+///
+/// # Errors
+/// Any database error.
+pub async fn register(
+    conn: &mut SqliteConnection,
+    text: &str,
+    from: &str,
+    to: &str,
+    before_id: i64,
+    limit: i64,
+) -> sqlx::Result<Vec<RegisterLine>> {
+    let pattern = format!("%{}%", text.replace('%', "\\%").replace('_', "\\_"));
+    sqlx::query_as!(
+        RegisterLine,
+        r#"SELECT c.id AS "id!: i64", c.number, c.revision, c.issued_on, i.serial, i.kind,
+                  cu.name AS customer, (r.certificate_id IS NOT NULL) AS "replaced!: bool"
+           FROM certificate c
+           JOIN instrument i ON i.id = c.instrument_id
+           JOIN customer cu ON cu.id = i.customer_id
+           LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
+           WHERE c.id < ?1
+             AND (c.number LIKE ?2 ESCAPE '\' OR i.serial LIKE ?2 ESCAPE '\' OR cu.name LIKE ?2 ESCAPE '\')
+             AND c.issued_on BETWEEN ?3 AND ?4
+           ORDER BY c.id DESC LIMIT ?5"#,
+        before_id,
+        pattern,
+        from,
+        to,
+        limit
+    )
+    .fetch_all(conn)
+    .await
+}

@@ -550,3 +550,74 @@ async fn a_reviewer_approves_the_demo_run_and_reads_its_certificate(pool: Sqlite
     let run = tech.get("/runs/2").await.text();
     assert!(!run.contains("Approve and issue"));
 }
+
+#[sqlx::test]
+async fn certificates_are_found_in_the_register_and_can_be_checked_by_anyone(pool: SqlitePool) {
+    let mut browser = signed_in(pool, "demo-reviewer").await;
+    let run = browser.get("/runs/1").await.text();
+    let csrf = hidden(&run, "csrf");
+    let version = hidden(&run, "version");
+    let approved = browser
+        .post_form("/runs/1/approve", &[("csrf", &csrf), ("version", &version)])
+        .await;
+    let url = location(&approved);
+    let number = url.trim_start_matches("/certificates/").to_owned();
+    let page = browser.get(&url).await.text();
+    let marker = "fingerprint (SHA-256 of the snapshot) <code>";
+    let start = page.find(marker).expect("fingerprint shown") + marker.len();
+    let fingerprint = page[start..].split('<').next().expect("hash").to_owned();
+    assert_eq!(fingerprint.len(), 64);
+
+    let register = browser.get("/certificates?q=CVW-PT").await.text();
+    assert!(
+        register.contains(&format!("href=\"/certificates/{number}\"")),
+        "{register}"
+    );
+    assert!(register.contains("Corrow Valley Water Authority (invented)"));
+    let none = browser.get("/certificates?q=no-such-thing").await.text();
+    assert!(none.contains("No certificate matches."));
+    let dated = browser
+        .get("/certificates?from=2000-01-01&to=2000-12-31")
+        .await
+        .text();
+    assert!(dated.contains("No certificate matches."));
+
+    // A stranger (no session) checks the certificate.
+    let mut stranger = Browser {
+        app: browser.app.clone(),
+        cookies: Vec::new(),
+    };
+    let good = stranger
+        .get(&format!(
+            "/verify?number={number}&fingerprint={fingerprint}"
+        ))
+        .await;
+    assert_eq!(good.status, StatusCode::OK);
+    assert!(
+        good.text().contains("Authentic and current"),
+        "{}",
+        good.text()
+    );
+    let mut forged = fingerprint.clone();
+    forged.replace_range(
+        0..1,
+        if fingerprint.starts_with('0') {
+            "1"
+        } else {
+            "0"
+        },
+    );
+    let bad = stranger
+        .get(&format!("/verify?number={number}&fingerprint={forged}"))
+        .await
+        .text();
+    assert!(
+        bad.contains("Not found") && bad.contains("not authentic"),
+        "{bad}"
+    );
+    // The register needs a session.
+    assert_eq!(
+        stranger.get("/certificates").await.status,
+        StatusCode::SEE_OTHER
+    );
+}

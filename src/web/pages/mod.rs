@@ -47,6 +47,8 @@ pub fn routes() -> Router<AppState> {
             axum::routing::post(review::return_to_technician),
         )
         .route("/review", get(review::queue))
+        .route("/certificates", get(review::register))
+        .route("/verify", get(review::verify_page))
         .route("/certificates/{number}", get(review::certificate))
         .route("/certificates/{number}/pdf", get(review::certificate_pdf))
 }

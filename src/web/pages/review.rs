@@ -219,3 +219,141 @@ pub async fn certificate_pdf(
     let pdf = pdf_of(&row.snapshot).await?;
     Ok(([(header::CONTENT_TYPE, "application/pdf")], pdf).into_response())
 }
+
+/// The answer of a verification.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct Verdict {
+    /// `current`, `replaced` or `unknown`.
+    pub status: &'static str,
+    /// A sentence for people.
+    pub message: String,
+}
+
+/// Checks a certificate number against a fingerprint.
+///
+/// # Errors
+/// A database error.
+pub async fn verdict(state: &AppState, number: &str, sha256: &str) -> Result<Verdict, AppError> {
+    let mut conn = state.db.acquire().await?;
+    let found = certificates::verify(
+        &mut conn,
+        number.trim(),
+        &sha256.trim().to_ascii_lowercase(),
+    )
+    .await?;
+    Ok(match found {
+        Some((revision, None)) => Verdict {
+            status: "current",
+            message: format!("Certificate {} revision {revision} was issued by this laboratory with this fingerprint and is current.", number.trim()),
+        },
+        Some((revision, Some(newer))) => Verdict {
+            status: "replaced",
+            message: format!(
+                "Certificate {} revision {revision} was issued by this laboratory with this fingerprint, but it has been replaced by revision {newer}.",
+                number.trim()
+            ),
+        },
+        None => Verdict {
+            status: "unknown",
+            message: "No certificate of this laboratory has this number with this fingerprint. Check both for typing errors; if they are right, the document is not authentic.".to_owned(),
+        },
+    })
+}
+
+#[derive(Template)]
+#[template(path = "verify.html")]
+struct VerifyPage {
+    nav: Nav,
+    number: String,
+    fingerprint: String,
+    verdict: Option<Verdict>,
+}
+
+/// `GET /verify?number=..&fingerprint=..`: anyone can check a certificate.
+pub async fn verify_page(
+    State(state): State<AppState>,
+    crate::web::session::MaybeUser(user): crate::web::session::MaybeUser,
+    axum::extract::Query(q): axum::extract::Query<HashMap<String, String>>,
+) -> Result<Html<String>, PageError> {
+    let number = q.get("number").cloned().unwrap_or_default();
+    let fingerprint = q.get("fingerprint").cloned().unwrap_or_default();
+    let verdict = if number.trim().is_empty() || fingerprint.trim().is_empty() {
+        None
+    } else {
+        Some(verdict(&state, &number, &fingerprint).await?)
+    };
+    let page = VerifyPage {
+        nav: Nav::of(user.as_ref()),
+        number,
+        fingerprint,
+        verdict,
+    };
+    Ok(Html(page.render().map_err(AppError::from)?))
+}
+
+#[derive(Template)]
+#[template(path = "register.html")]
+struct RegisterPage {
+    nav: Nav,
+    q: String,
+    from: String,
+    to: String,
+    lines: Vec<crate::store::certificates::RegisterLine>,
+    next: Option<String>,
+}
+
+/// Certificates per register page.
+pub const REGISTER_PAGE: i64 = 50;
+
+/// `GET /certificates?q=..&from=..&to=..&before=..`: the certificate register.
+pub async fn register(
+    State(state): State<AppState>,
+    user: PageUser,
+    axum::extract::Query(params): axum::extract::Query<HashMap<String, String>>,
+) -> Result<Html<String>, PageError> {
+    let q = params.get("q").map_or("", |s| s.trim()).to_owned();
+    let from = params
+        .get("from")
+        .map(|s| s.trim().to_owned())
+        .filter(|s| !s.is_empty())
+        .unwrap_or_else(|| "0000-01-01".to_owned());
+    let to = params
+        .get("to")
+        .map(|s| s.trim().to_owned())
+        .filter(|s| !s.is_empty())
+        .unwrap_or_else(|| "9999-12-31".to_owned());
+    let before = params
+        .get("before")
+        .and_then(|b| b.parse().ok())
+        .unwrap_or(i64::MAX);
+    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
+    let lines = certificates::register(&mut conn, &q, &from, &to, before, REGISTER_PAGE)
+        .await
+        .map_err(AppError::from)?;
+    let next = (lines.len() as i64 == REGISTER_PAGE).then(|| {
+        let last = lines.last().map_or(0, |l| l.id);
+        format!(
+            "/certificates?q={}&from={}&to={}&before={last}",
+            crate::web::session::percent_encode(&q),
+            crate::web::session::percent_encode(&from),
+            crate::web::session::percent_encode(&to)
+        )
+    });
+    let page = RegisterPage {
+        nav: Nav::of(Some(&user)),
+        q,
+        from: if from == "0000-01-01" {
+            String::new()
+        } else {
+            from
+        },
+        to: if to == "9999-12-31" {
+            String::new()
+        } else {
+            to
+        },
+        lines,
+        next,
+    };
+    Ok(Html(page.render().map_err(AppError::from)?))
+}
