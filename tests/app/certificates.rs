@@ -397,3 +397,108 @@ async fn the_deviation_api_serves_the_current_certificate(pool: SqlitePool) {
     assert_eq!(outside.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert!(outside.text().contains("never extrapolated"));
 }
+
+#[sqlx::test]
+async fn an_amendment_issues_a_new_revision_and_keeps_the_old_one(pool: SqlitePool) {
+    let lab = lab(pool).await;
+    let (id, version) = submitted_run(&lab, &lab.tech, "PT-C5").await;
+    let first = ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/runs/{id}/approve"),
+            Some(&lab.reviewer),
+            Some(json!({"version": version})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let number = first["number"].as_str().expect("number").to_owned();
+    let no_reason = call(
+        &lab.app,
+        "POST",
+        &format!("/api/v1/certificates/{number}/amend"),
+        Some(&lab.reviewer),
+        Some(json!({"reason": ""})),
+    )
+    .await;
+    assert_eq!(no_reason.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let refused = call(
+        &lab.app,
+        "POST",
+        &format!("/api/v1/certificates/{number}/amend"),
+        Some(&lab.tech),
+        Some(json!({"reason": "typo"})),
+    )
+    .await;
+    assert_eq!(refused.status, StatusCode::FORBIDDEN);
+    // The customer's address was missing on revision 0.
+    ok(
+        &call(
+            &lab.app,
+            "PUT",
+            "/api/v1/customers/1",
+            Some(&lab.tech),
+            Some(json!({"name": "Owner of PT-C5 (invented)", "address": "1 Mill Road"})),
+        )
+        .await,
+        StatusCode::OK,
+    );
+    let second = ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/certificates/{number}/amend"),
+            Some(&lab.reviewer),
+            Some(json!({"reason": "customer address added"})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    assert_eq!(second["revision"], 1);
+    assert_ne!(second["sha256"], first["sha256"]);
+    // The latest revision names the one it replaces and why.
+    let latest = ok(
+        &call(
+            &lab.app,
+            "GET",
+            &format!("/api/v1/certificates/{number}"),
+            Some(&lab.reader),
+            None,
+        )
+        .await,
+        StatusCode::OK,
+    );
+    assert_eq!(latest["revision"], 1);
+    assert_eq!(
+        latest["replaces"],
+        json!({"number": number, "revision": 0, "reason": "customer address added"})
+    );
+    assert_eq!(latest["customer"]["address"], "1 Mill Road");
+    // Revision 0 stays retrievable, unchanged.
+    let old = call(
+        &lab.app,
+        "GET",
+        &format!("/api/v1/certificates/{number}?revision=0"),
+        Some(&lab.reader),
+        None,
+    )
+    .await;
+    assert_eq!(
+        old.headers["x-certificate-sha256"],
+        first["sha256"].as_str().expect("sha")
+    );
+    // The deviation API follows the current revision.
+    let d = ok(
+        &call(
+            &lab.app,
+            "GET",
+            "/api/v1/instruments/PT-C5/deviation",
+            Some(&lab.reader),
+            None,
+        )
+        .await,
+        StatusCode::OK,
+    );
+    assert_eq!(d["revision"], 1);
+}

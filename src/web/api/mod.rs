@@ -96,6 +96,11 @@ pub fn routes() -> Router<AppState> {
             get(review::certificate_json),
         )
         .route(
+            "/api/v1/certificates/{number}/pdf",
+            get(review::certificate_pdf),
+        )
+        .route("/api/v1/certificates/{number}/amend", post(review::amend))
+        .route(
             "/api/v1/instruments/{serial}/deviation",
             get(review::deviation),
         )

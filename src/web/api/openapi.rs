@@ -412,6 +412,13 @@ const RECORD_ROUTES: &[(&str, &str, &str, bool, &str)] = &[
         "200",
     ),
     (
+        "/api/v1/certificates/{number}/amend",
+        "post",
+        "Issue the next revision of a certificate from its run's current records: {reason}; the new revision names the one it replaces and why, and the old one stays retrievable, marked as replaced",
+        true,
+        "201",
+    ),
+    (
         "/api/v1/review",
         "get",
         "Runs waiting for review, oldest first",

@@ -496,3 +496,120 @@ pub async fn pdf_of(snapshot_json: &str) -> Result<Vec<u8>, AppError> {
         .map_err(|e| AppError::Internal(format!("PDF task failed: {e}")))?
         .map_err(|e| AppError::Internal(format!("PDF rendering failed: {e}")))
 }
+
+/// Body of an amendment.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AmendBody {
+    /// Why the certificate is amended (printed on the new revision).
+    pub reason: String,
+}
+
+/// Issues the next revision of certificate `number`, rebuilt from its run's
+/// current records, naming the revision it replaces and why. The replaced
+/// revision stays as issued and retrievable.
+///
+/// # Errors
+/// 403 (role, or the caller performed the run), 404, 422 (no reason).
+pub async fn amend_certificate(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    number: &str,
+    reason: &str,
+) -> ApiResult<Issued> {
+    caller.may_change(REVIEW_ROLES, "amending certificates")?;
+    if reason.trim().is_empty() {
+        return Err(AppError::invalid(
+            "reason",
+            "say why the certificate is amended; the reason is printed on the new revision",
+        )
+        .into());
+    }
+    let mut tx = store::begin_write(db).await?;
+    let old = certificates::by_number(&mut tx, number, None)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
+    let run = run_or_404(&mut tx, old.run_id).await?;
+    if run.technician_id == caller.user_id {
+        return Err(AppError::Forbidden(format!(
+            "you performed run {}; another person must authorise its certificates",
+            run.id
+        ))
+        .into());
+    }
+    let results = compute(&mut tx, &run)
+        .await
+        .map_err(super::results::results_error)?;
+    let (issued_on, _) = today();
+    let revision = old.revision + 1;
+    let snapshot = build_snapshot(
+        &mut tx,
+        Issue {
+            run: &run,
+            results: &results,
+            number,
+            revision: u32::try_from(revision).unwrap_or(u32::MAX),
+            replaces: Some(crate::report::snapshot::Replaced {
+                number: number.to_owned(),
+                revision: u32::try_from(old.revision).unwrap_or(0),
+                reason: reason.trim().to_owned(),
+            }),
+            issued_on: &issued_on,
+            approved_by: &caller.display_name,
+        },
+    )
+    .await
+    .map_err(super::results::results_error)?;
+    let json = snapshot
+        .canonical_json()
+        .map_err(|e| AppError::Internal(e.to_string()))?;
+    let sha256 = snapshot
+        .fingerprint()
+        .map_err(|e| AppError::Internal(e.to_string()))?;
+    let new_id = certificates::insert(
+        &mut tx,
+        &certificates::NewCertificate {
+            number,
+            revision,
+            run_id: run.id,
+            instrument_id: run.instrument_id,
+            issued_on: &issued_on,
+            approved_by: caller.user_id,
+            snapshot: &json,
+            sha256: &sha256,
+            replaces_id: Some(old.id),
+            amendment_reason: Some(reason.trim()),
+        },
+    )
+    .await?;
+    certificates::mark_replaced(&mut tx, old.id, new_id).await?;
+    let after = serde_json::json!({"certificate": number, "revision": revision, "replaces": old.revision, "reason": reason.trim(), "sha256": sha256});
+    record(
+        &mut tx,
+        caller,
+        "amend",
+        "certificate",
+        number,
+        None,
+        Some(&after),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok(Issued {
+        number: number.to_owned(),
+        revision,
+        issued_on,
+        sha256,
+    })
+}
+
+/// `POST /api/v1/certificates/{number}/amend`.
+pub async fn amend(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path(number): Path<String>,
+    ApiJson(body): ApiJson<AmendBody>,
+) -> ApiResult<(StatusCode, Json<Issued>)> {
+    let issued = amend_certificate(&state.db, &caller, &number, &body.reason).await?;
+    Ok((StatusCode::CREATED, Json(issued)))
+}

@@ -51,6 +51,10 @@ pub fn routes() -> Router<AppState> {
         .route("/verify", get(review::verify_page))
         .route("/certificates/{number}", get(review::certificate))
         .route("/certificates/{number}/pdf", get(review::certificate_pdf))
+        .route(
+            "/certificates/{number}/amend",
+            axum::routing::post(review::amend),
+        )
 }
 
 /// What the page header shows about the signed-in person.

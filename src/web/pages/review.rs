@@ -114,6 +114,8 @@ pub async fn return_to_technician(
 #[template(path = "certificate.html")]
 struct CertificatePage {
     nav: Nav,
+    csrf: String,
+    may_amend: bool,
     c: CertificateSnapshot,
     sha256: String,
     replaced: bool,
@@ -194,7 +196,14 @@ pub async fn certificate(
         width_px: 720,
         height_px: 380,
     };
+    let may_amend = row.replaced_by_id.is_none()
+        && matches!(
+            user.user.role,
+            crate::store::accounts::Role::Reviewer | crate::store::accounts::Role::Administrator
+        );
     let page = CertificatePage {
+        csrf: user.csrf.clone(),
+        may_amend,
         nav: Nav::of(Some(&user)),
         plot_svg: crate::report::plot::render_svg(&plot),
         c,
@@ -356,4 +365,20 @@ pub async fn register(
         next,
     };
     Ok(Html(page.render().map_err(AppError::from)?))
+}
+
+/// `POST /certificates/{number}/amend`.
+pub async fn amend(
+    State(state): State<AppState>,
+    user: PageUser,
+    Path(number): Path<String>,
+    Form(values): Form<HashMap<String, String>>,
+) -> Result<Response, PageError> {
+    user.check_csrf(values.get("csrf").map_or("", String::as_str))?;
+    let reason = values.get("reason").map_or("", String::as_str);
+    let issued =
+        crate::web::api::review::amend_certificate(&state.db, &user.caller(), &number, reason)
+            .await
+            .map_err(page_error)?;
+    Ok(Redirect::to(&format!("/certificates/{}", issued.number)).into_response())
 }
