@@ -70,7 +70,7 @@ fn a_technician_records_a_run_in_the_browser() {
     s.go(&format!("{base}/sign-in"));
     s.type_into("#username", "demo-tech");
     s.type_into("#password", "juncture-demo");
-    s.click("form.stacked button[type=submit]");
+    s.submit("form.stacked button[type=submit]");
     assert!(s.url().ends_with("/work"), "after sign-in: {}", s.url());
     assert!(s.text("main").contains("In progress"));
 
@@ -88,18 +88,18 @@ fn a_technician_records_a_run_in_the_browser() {
     s.click("#medium option[value='LTM-BATH-07']");
     s.type_into("#procedure_ref", "LTM-P-04 rev 3");
     s.type_into("#tolerance_class", "A");
-    s.click("#new-run button[type=submit]");
+    s.submit("#new-run button[type=submit]");
     let run_url = s.url();
     assert!(run_url.contains("/runs/"), "a run page: {run_url}");
 
     // A set point, then a pasted block with a bad line.
     s.type_into("#nominal_t_c", "100");
-    s.click("form.inline button[type=submit]");
+    s.submit("form.inline button[type=submit]");
     s.type_into(
         "textarea[name=paste]",
         "reference;uut\n138,5110;138,5301\n138,5112;138,53O5\n138,5109;138,5299\n",
     );
-    s.click("form.readings-form button[type=submit]");
+    s.submit("form.readings-form button[type=submit]");
     let page = s.text("main");
     assert!(
         page.contains("line 3, column 2"),
@@ -113,7 +113,7 @@ fn a_technician_records_a_run_in_the_browser() {
         "textarea[name=paste]",
         "reference;uut\n138,5110;138,5301\n138,5112;138,5305\n138,5109;138,5299\n",
     );
-    s.click("form.readings-form button[type=submit]");
+    s.submit("form.readings-form button[type=submit]");
     let deviation = s.text("strong.deviation");
     let expanded = s.text("strong.expanded");
     assert!(
@@ -128,7 +128,7 @@ fn a_technician_records_a_run_in_the_browser() {
     assert_eq!(focused, "ref_1", "Enter moves to the next row");
 
     // Submit for review: the page becomes read-only.
-    s.click("#submit-run");
+    s.submit("#submit-run");
     assert!(s.text("main").contains("waiting for review"));
     assert!(!s.source().contains("Save readings"));
 }

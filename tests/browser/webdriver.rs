@@ -236,6 +236,47 @@ impl<'a> Session<'a> {
         self.call("POST", &format!("/element/{id}/click"), Some(json!({})));
     }
 
+    /// Clicks a button that submits a form, then waits until the browser
+    /// has left the old page and the new one has loaded (a click returns
+    /// before the navigation it starts has finished).
+    pub fn submit(&mut self, css: &str) {
+        let old = self.find("html");
+        self.click(css);
+        let deadline = Instant::now() + Duration::from_secs(30);
+        loop {
+            let gone = request(
+                self.driver.port,
+                "GET",
+                &format!("/session/{}/element/{old}/name", self.id),
+                None,
+            )
+            .is_err();
+            if gone {
+                break;
+            }
+            assert!(
+                Instant::now() < deadline,
+                "the page did not change after clicking {css}"
+            );
+            std::thread::sleep(Duration::from_millis(50));
+        }
+        loop {
+            let state = self.call(
+                "POST",
+                "/execute/sync",
+                Some(json!({"script": "return document.readyState", "args": []})),
+            );
+            if state == "complete" {
+                break;
+            }
+            assert!(
+                Instant::now() < deadline,
+                "the new page did not finish loading"
+            );
+            std::thread::sleep(Duration::from_millis(50));
+        }
+    }
+
     /// The visible text of an element.
     pub fn text(&self, css: &str) -> String {
         let id = self.find(css);

@@ -8,7 +8,6 @@ use serde::{Deserialize, Serialize};
 
 use super::records::{ApiResult, Problems, record, unique};
 use crate::domain::coefficients::{CertificateCoefficients, forms_for};
-use crate::metrology::thermo::ThermocoupleType;
 use crate::store::accounts::Role;
 use crate::store::equipment::{
     self, Certificate, CertificateFields, CertificateUncertainty, Characterisation, Cmc, Equipment,
@@ -85,28 +84,12 @@ impl EquipmentBody {
     fn validate(self) -> Result<EquipmentFields, AppError> {
         let mut p = Problems::default();
         p.text("asset_id", &self.asset_id);
-        let kind = self.kind.trim().to_ascii_lowercase();
-        if !EQUIPMENT_KINDS.split(", ").any(|k| k == kind) {
-            p.add(
-                "kind",
-                format!(
-                    "unknown kind {:?}; expected one of {EQUIPMENT_KINDS}",
-                    self.kind
-                ),
-            );
-        }
-        let mut tc_type = None;
-        match (&self.tc_type, kind.as_str()) {
-            (Some(t), "reference_thermocouple") => match t.parse::<ThermocoupleType>() {
-                Ok(t) => tc_type = Some(t.to_string()),
-                Err(e) => p.add("tc_type", e.to_string()),
-            },
-            (None, "reference_thermocouple") => {
-                p.add("tc_type", "a reference thermocouple needs its letter type")
-            }
-            (Some(_), _) => p.add("tc_type", "only reference thermocouples have a letter type"),
-            (None, _) => {}
-        }
+        let kind = p.kind(&self.kind, EQUIPMENT_KINDS);
+        let tc_type = p.tc_type(
+            self.tc_type.as_deref(),
+            kind == "reference_thermocouple",
+            "a reference thermocouple",
+        );
         if let Some(unit) = &self.spec_unit
             && !["mV", "ohm", "degC"].contains(&unit.as_str())
         {

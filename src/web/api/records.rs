@@ -103,6 +103,46 @@ impl Problems {
             self.add(field, "must not be empty");
         }
     }
+    /// Checks a kind against the accepted ones (`allowed`, comma separated);
+    /// returns it lower-cased.
+    pub fn kind(&mut self, given: &str, allowed: &str) -> String {
+        let kind = given.trim().to_ascii_lowercase();
+        if !allowed.split(", ").any(|k| k == kind) {
+            self.add(
+                "kind",
+                format!("unknown kind {given:?}; expected one of {allowed}"),
+            );
+        }
+        kind
+    }
+
+    /// The letter type of a thermocouple: required when `needed` (naming
+    /// `what` in the message), refused otherwise.
+    pub fn tc_type(&mut self, given: Option<&str>, needed: bool, what: &str) -> Option<String> {
+        match (given, needed) {
+            (Some(t), true) => match t.parse::<ThermocoupleType>() {
+                Ok(t) => Some(t.to_string()),
+                Err(e) => {
+                    self.add("tc_type", e.to_string());
+                    None
+                }
+            },
+            (None, true) => {
+                self.add(
+                    "tc_type",
+                    format!("{what} needs its letter type (B, E, J, K, N, R, S or T)"),
+                );
+                None
+            }
+            (Some(_), false) => {
+                let plural = format!("{}s", what.trim_start_matches("a "));
+                self.add("tc_type", format!("only {plural} have a letter type"));
+                None
+            }
+            (None, false) => None,
+        }
+    }
+
     /// Ends validation.
     ///
     /// # Errors
@@ -289,29 +329,12 @@ impl InstrumentBody {
     pub fn validate(self) -> Result<InstrumentFields, AppError> {
         let mut p = Problems::default();
         p.text("serial", &self.serial);
-        let kind = self.kind.trim().to_ascii_lowercase();
-        if !INSTRUMENT_KINDS.split(", ").any(|k| k == kind) {
-            p.add(
-                "kind",
-                format!(
-                    "unknown kind {:?}; expected one of {INSTRUMENT_KINDS}",
-                    self.kind
-                ),
-            );
-        }
-        let mut tc_type = None;
-        match (&self.tc_type, kind.as_str()) {
-            (Some(t), "thermocouple") => match t.parse::<ThermocoupleType>() {
-                Ok(t) => tc_type = Some(t.to_string()),
-                Err(e) => p.add("tc_type", e.to_string()),
-            },
-            (None, "thermocouple") => p.add(
-                "tc_type",
-                "a thermocouple needs its letter type (B, E, J, K, N, R, S or T)",
-            ),
-            (Some(_), _) => p.add("tc_type", "only thermocouples have a letter type"),
-            (None, _) => {}
-        }
+        let kind = p.kind(&self.kind, INSTRUMENT_KINDS);
+        let tc_type = p.tc_type(
+            self.tc_type.as_deref(),
+            kind == "thermocouple",
+            "a thermocouple",
+        );
         match (self.r0_ohm, kind.as_str()) {
             (Some(r0), "prt") if !(r0.is_finite() && r0 > 0.0) => {
                 p.add("r0_ohm", "must be a positive resistance in Ω")
