@@ -396,6 +396,20 @@ async fn the_deviation_api_serves_the_current_certificate(pool: SqlitePool) {
     .await;
     assert_eq!(outside.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert!(outside.text().contains("never extrapolated"));
+    let not_tc = call(
+        &lab.app,
+        "GET",
+        "/api/v1/instruments/PT-C4/deviation/evaluate?emf_mv=4.0",
+        Some(&lab.reader),
+        None,
+    )
+    .await;
+    assert_eq!(not_tc.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        not_tc.text().contains("not a thermocouple"),
+        "{}",
+        not_tc.text()
+    );
 }
 
 #[sqlx::test]
@@ -501,4 +515,169 @@ async fn an_amendment_issues_a_new_revision_and_keeps_the_old_one(pool: SqlitePo
         StatusCode::OK,
     );
     assert_eq!(d["revision"], 1);
+}
+
+#[sqlx::test]
+async fn a_thermocouple_certificate_answers_emf_queries(pool: SqlitePool) {
+    let lab = lab(pool).await;
+    set_up_lab(&lab).await;
+    let customer = ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/customers",
+            Some(&lab.tech),
+            Some(json!({"name": "Kiln owner (invented)"})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/instruments",
+            Some(&lab.tech),
+            Some(json!({"serial": "K-EMF", "kind": "thermocouple", "tc_type": "K", "customer_id": customer["id"]})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let run = ok(&call(&lab.app, "POST", "/api/v1/runs", Some(&lab.tech), Some(json!({
+        "instrument_serial": "K-EMF", "reference": "REF-PRT-01", "medium": "BATH-01", "performed_on": "2026-11-20",
+        "procedure_ref": "TP-11 rev 2", "rj_method": "ice_point", "decision_rule": "none"}))).await, StatusCode::CREATED);
+    let id = run["id"].as_i64().expect("id");
+    let mut version = 1;
+    // Resistances of the reference PRT near 50 °C and 150 °C; the type K emf
+    // near the table values (NIST SRD 60: 2.023 mV at 50 °C, 6.138 mV at
+    // 150 °C) plus a few µV of deviation.
+    for (t, r_ref, e_uut) in [(50.0, 119.4103, 2.0262), (150.0, 157.3390, 6.1455)] {
+        let sp = ok(
+            &call(
+                &lab.app,
+                "POST",
+                &format!("/api/v1/runs/{id}/set-points"),
+                Some(&lab.tech),
+                Some(json!({"nominal_t_c": t, "version": version})),
+            )
+            .await,
+            StatusCode::CREATED,
+        );
+        let readings: Vec<Value> = (0..4)
+            .map(|i| json!({"reference_signal": r_ref + 1e-4 * f64::from(i), "uut_signal": e_uut + 2e-4 * f64::from(i % 2)}))
+            .collect();
+        let added = ok(
+            &call(
+                &lab.app,
+                "POST",
+                &format!("/api/v1/runs/{id}/set-points/{}/readings", sp["id"]),
+                Some(&lab.tech),
+                Some(json!({"version": version + 1, "readings": readings})),
+            )
+            .await,
+            StatusCode::CREATED,
+        );
+        version = added["version"].as_i64().expect("version");
+    }
+    let submitted = ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/runs/{id}/submit"),
+            Some(&lab.tech),
+            Some(json!({"version": version})),
+        )
+        .await,
+        StatusCode::OK,
+    );
+    let issued = ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/runs/{id}/approve"),
+            Some(&lab.reviewer),
+            Some(json!({"version": submitted["version"]})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let cert = ok(
+        &call(
+            &lab.app,
+            "GET",
+            &format!(
+                "/api/v1/certificates/{}",
+                issued["number"].as_str().expect("n")
+            ),
+            Some(&lab.reader),
+            None,
+        )
+        .await,
+        StatusCode::OK,
+    );
+    let k = juncture::metrology::thermo::ThermocoupleType::K;
+    for row in cert["results"].as_array().expect("rows") {
+        let t_ref = row["t_ref_c"].as_f64().expect("t");
+        let d_emf = row["deviation_emf_mv"].as_f64().expect("emf deviation");
+        // The emf this thermocouple shows at the row's reference temperature,
+        // by the certificate's own table: E_ref(t_ref) + dE.
+        let emf = k.emf(t_ref).expect("emf") + d_emf;
+        let e = ok(
+            &call(
+                &lab.app,
+                "GET",
+                &format!("/api/v1/instruments/K-EMF/deviation/evaluate?emf_mv={emf}"),
+                Some(&lab.reader),
+                None,
+            )
+            .await,
+            StatusCode::OK,
+        );
+        // Two set points, a straight line through both: the certificate's
+        // own reference temperature comes back.
+        assert!(
+            (e["t_c"].as_f64().expect("t") - t_ref).abs() < 1e-6,
+            "{e} vs {row}"
+        );
+        assert!(
+            (e["emf_deviation_mv"].as_f64().expect("dE") - d_emf).abs() < 1e-9,
+            "{e}"
+        );
+        // The reference function alone would read t_ref + dt; the gap is the
+        // printed deviation (dt and dE describe the same readings).
+        let gap = e["indicated_t_c"].as_f64().expect("ind") - e["t_c"].as_f64().expect("t");
+        assert!(
+            (gap - row["deviation_c"].as_f64().expect("dt")).abs() < 1e-4,
+            "{e} vs {row}"
+        );
+    }
+    // Outside the calibrated range (type K, 20.644 mV is 500 °C by NIST SRD 60).
+    let outside = call(
+        &lab.app,
+        "GET",
+        "/api/v1/instruments/K-EMF/deviation/evaluate?emf_mv=20.644",
+        Some(&lab.reader),
+        None,
+    )
+    .await;
+    assert_eq!(outside.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        outside.text().contains("never extrapolated"),
+        "{}",
+        outside.text()
+    );
+    let both = call(
+        &lab.app,
+        "GET",
+        "/api/v1/instruments/K-EMF/deviation/evaluate?emf_mv=4&t_c=100",
+        Some(&lab.reader),
+        None,
+    )
+    .await;
+    assert_eq!(both.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        both.text().contains("exactly one of t_c"),
+        "{}",
+        both.text()
+    );
 }

@@ -19,6 +19,7 @@ use crate::metrology::stats::{
 
 use super::error::{CalibError, Location};
 use super::model::FitDegree;
+use crate::metrology::thermo::{ThermoError, ThermocoupleType};
 
 /// Highest degree accepted (the limit of the least-squares routine).
 pub const MAX_FIT_DEGREE: usize = crate::metrology::stats::lsq::MAX_DEGREE;
@@ -127,6 +128,65 @@ impl DeviationFunction {
     pub fn poly_fit(&self) -> &PolyFit {
         &self.fit
     }
+}
+
+/// Temperature of a calibrated thermocouple from its measured emf (reference junction at 0 °C)
+/// and its certificate's emf deviation function ΔE(t) = Σ c_i t^i (mV, t in °C): the t that
+/// solves E_ref(t) + ΔE(t) = `emf_mv`, by Newton's method started from the reference-function
+/// inverse, to |residual| < 1e-9 mV.
+///
+/// Returns (t, t_ind): the corrected temperature and the temperature the reference function
+/// alone would indicate for `emf_mv`. The caller checks t against the validity range.
+///
+/// # Reference
+/// NIST Monograph 175 (1993), section on deviation functions: a thermocouple is described by
+/// the reference function plus a low-order emf deviation function of temperature; the equation
+/// is solved for t (from memory). Newton iteration: common practice.
+pub fn temperature_from_emf(
+    tc: ThermocoupleType,
+    emf_mv: f64,
+    emf_coefficients: &[f64],
+) -> Result<(f64, f64), CalibError> {
+    let at = || Location::run().field("emf");
+    let thermo = |e: ThermoError| CalibError::Thermo {
+        at: at(),
+        source: Box::new(e),
+    };
+    if !emf_mv.is_finite() {
+        return Err(CalibError::NotFinite {
+            at: at(),
+            value: emf_mv,
+        });
+    }
+    let indicated = tc.temperature(emf_mv).map_err(thermo)?;
+    let mut t = indicated;
+    for _ in 0..50 {
+        let (dev, slope_dev) = horner_with_derivative(emf_coefficients, t);
+        let f = tc.emf(t).map_err(thermo)? + dev - emf_mv;
+        if f.abs() < 1e-9 {
+            return Ok((t, indicated));
+        }
+        let slope = tc.seebeck_uv_per_k(t).map_err(thermo)? / 1000.0 + slope_dev;
+        if !(slope.is_finite() && slope > 0.0) {
+            break;
+        }
+        t -= f / slope;
+    }
+    Err(CalibError::NoConvergence {
+        at: at(),
+        what: "temperature from emf with the emf deviation function",
+    })
+}
+
+/// Σ c_i t^i and its derivative by Horner's scheme.
+fn horner_with_derivative(c: &[f64], t: f64) -> (f64, f64) {
+    let mut p = 0.0;
+    let mut dp = 0.0;
+    for &ci in c.iter().rev() {
+        dp = dp * t + p;
+        p = p * t + ci;
+    }
+    (p, dp)
 }
 
 /// Degree to fit to `points` set points: `None` for [`FitDegree::None`], else the degree and a
@@ -252,6 +312,31 @@ fn matrix_rows(m: &DMatrix<f64>) -> Vec<Vec<f64>> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn temperature_from_emf_with_a_deviation_function() {
+        let k = ThermocoupleType::K;
+        // NIST SRD 60 type K table: 4.096 mV at 100 °C (rounded to 1 µV, hence 0.03 °C).
+        let (t, ind) = temperature_from_emf(k, 4.096, &[]).unwrap();
+        assert!((t - 100.0).abs() < 0.03, "{t}");
+        assert_eq!(t, ind);
+        // A constant emf deviation of +0.0411 mV is about +1 °C near 100 °C: the type K table
+        // gives 4.096 mV at 100 °C and 5.206 mV at 127 °C, a mean slope of 41.1 µV/K (NIST SRD
+        // 60, the same table as tests/data). The corrected temperature is 1 °C lower than the
+        // one the reference function alone indicates (to 0.02 °C, the slope varying by < 1 %).
+        let (t, ind) = temperature_from_emf(k, 4.096, &[0.0411]).unwrap();
+        assert!((ind - t - 1.0).abs() < 0.02, "{ind} {t}");
+        // Sloped deviation ΔE = 0.01 mV + 1e-4 mV/°C · t, solved exactly: E_ref(t) + ΔE(t)
+        // reproduces the emf given (round trip through the published reference function).
+        let c = [0.01, 1e-4];
+        let e = k.emf(250.0).unwrap() + 0.01 + 1e-4 * 250.0;
+        let (t, _) = temperature_from_emf(k, e, &c).unwrap();
+        assert!((t - 250.0).abs() < 1e-7, "{t}");
+        // Outside the type K range: a clear thermometry error naming the emf.
+        let err = temperature_from_emf(k, 80.0, &c).unwrap_err().to_string();
+        assert!(err.contains("emf"), "{err}");
+        assert!(temperature_from_emf(k, f64::NAN, &c).is_err());
+    }
 
     #[test]
     fn degree_choice() {

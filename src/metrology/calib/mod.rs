@@ -42,7 +42,7 @@ pub use budget::{BudgetItem, ItemKind, ReadoutSpec, Sensitivities, Side, Spread}
 pub use cmc::{CmcRange, CmcTable};
 pub use conformity::ConformityResult;
 pub use error::{CalibError, Location};
-pub use fit::{DeviationFunction, FitQuantity, FlaggedResidual};
+pub use fit::{DeviationFunction, FitQuantity, FlaggedResidual, temperature_from_emf};
 pub use model::{
     ConformitySpec, FitDegree, JunctionMethod, Reading, ReferenceProbe, Run, SetPoint,
     ToleranceSpec, UnitUnderTest,

@@ -463,7 +463,7 @@ const RECORD_ROUTES: &[(&str, &str, &str, bool, &str)] = &[
     (
         "/api/v1/instruments/{serial}/deviation/evaluate",
         "get",
-        "?t_c=: deviation_c, correction_c (= -deviation), expanded_uncertainty_c, coverage_factor, certificate_number; 422 outside the validity range, never an extrapolated number",
+        "Exactly one of ?t_c= (°C) or ?emf_mv= (thermocouples: measured emf, mV, reference junction at 0 °C; t_c is then the temperature solving E_ref(t) + dE(t) = emf, with indicated_t_c and emf_deviation_mv). Answers t_c, deviation_c, correction_c (= -deviation), expanded_uncertainty_c, coverage_factor, certificate_number; 422 outside the validity range, never an extrapolated number",
         false,
         "200",
     ),

@@ -8,10 +8,12 @@ use axum::http::{HeaderMap, HeaderValue, StatusCode, header};
 use axum::response::{IntoResponse, Response};
 use serde::{Deserialize, Serialize};
 
-use super::records::{ApiResult, record};
+use super::records::{ApiError, ApiResult, record};
 use super::runs::run_or_404;
 use crate::domain::certificates::{Issue, build_snapshot, compute, expand_pattern};
-use crate::report::snapshot::CertificateSnapshot;
+use crate::metrology::calib::temperature_from_emf;
+use crate::metrology::thermo::ThermocoupleType;
+use crate::report::snapshot::{CertificateSnapshot, FunctionBlock};
 use crate::store::accounts::Role;
 use crate::store::runs::{self, Run};
 use crate::store::{self, certificates, lab, records};
@@ -295,6 +297,22 @@ async fn current(
     conn: &mut sqlx::SqliteConnection,
     serial: &str,
 ) -> Result<(certificates::Certificate, CertificateSnapshot), AppError> {
+    current_with_instrument(conn, serial)
+        .await
+        .map(|(c, s, _)| (c, s))
+}
+
+async fn current_with_instrument(
+    conn: &mut sqlx::SqliteConnection,
+    serial: &str,
+) -> Result<
+    (
+        certificates::Certificate,
+        CertificateSnapshot,
+        records::Instrument,
+    ),
+    AppError,
+> {
     let instrument = records::instrument_by_serial(conn, serial)
         .await?
         .ok_or_else(|| {
@@ -309,7 +327,7 @@ async fn current(
         })?;
     let snapshot: CertificateSnapshot = serde_json::from_str(&c.snapshot)
         .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
-    Ok((c, snapshot))
+    Ok((c, snapshot, instrument))
 }
 
 /// The deviation function of an instrument's current certificate (stable
@@ -389,18 +407,20 @@ pub async fn deviation(
     Ok((cache, Json(out)).into_response())
 }
 
-/// Query of the evaluate endpoint.
+/// Query of the evaluate endpoint: exactly one of `t_c` and `emf_mv`.
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct EvaluateQuery {
     /// Temperature, °C.
-    pub t_c: f64,
+    pub t_c: Option<f64>,
+    /// Measured emf of a thermocouple, mV, reference junction at 0 °C.
+    pub emf_mv: Option<f64>,
 }
 
 /// The deviation function at one temperature.
 #[derive(Debug, Serialize)]
 pub struct EvaluateOut {
-    /// Temperature, °C.
+    /// Temperature, °C (for an emf query: the corrected temperature).
     pub t_c: f64,
     /// Deviation (indication − reference), °C.
     pub deviation_c: f64,
@@ -412,9 +432,29 @@ pub struct EvaluateOut {
     pub coverage_factor: f64,
     /// Certificate number.
     pub certificate_number: String,
+    /// The emf asked about, mV (emf queries only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub emf_mv: Option<f64>,
+    /// The temperature the reference function alone gives for that emf, °C.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub indicated_t_c: Option<f64>,
+    /// The emf deviation at `t_c`, mV (thermocouples with an emf deviation function).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub emf_deviation_mv: Option<f64>,
 }
 
-/// `GET /api/v1/instruments/{serial}/deviation/evaluate?t_c=..`.
+fn outside_validity(what: &str, value: String, number: &str, f: &FunctionBlock) -> ApiError {
+    AppError::invalid(
+        what,
+        format!(
+            "{value} is outside the range the deviation function of certificate {number} is valid for, {:.3} °C to {:.3} °C; it is never extrapolated",
+            f.valid_from_t_c, f.valid_to_t_c
+        ),
+    )
+    .into()
+}
+
+/// `GET /api/v1/instruments/{serial}/deviation/evaluate?t_c=..` or `?emf_mv=..`.
 pub async fn evaluate(
     State(state): State<AppState>,
     _caller: Caller,
@@ -422,34 +462,78 @@ pub async fn evaluate(
     ApiQuery(q): ApiQuery<EvaluateQuery>,
 ) -> ApiResult<Json<EvaluateOut>> {
     let mut conn = state.db.acquire().await?;
-    let (c, s) = current(&mut conn, &serial).await?;
+    let (c, s, instrument) = current_with_instrument(&mut conn, &serial).await?;
     let f = s.deviation_function.ok_or_else(|| {
         AppError::NotFound(format!(
             "certificate {} has no deviation function",
             c.number
         ))
     })?;
-    if !q.t_c.is_finite() {
-        return Err(AppError::invalid("t_c", "must be a finite temperature in °C").into());
-    }
-    if q.t_c < f.valid_from_t_c || q.t_c > f.valid_to_t_c {
-        return Err(AppError::invalid(
-            "t_c",
-            format!(
-                "{} °C is outside the range the deviation function of certificate {} is valid for, {:.3} °C to {:.3} °C; it is never extrapolated",
-                q.t_c, c.number, f.valid_from_t_c, f.valid_to_t_c
-            ),
-        )
-        .into());
-    }
-    let deviation_c = crate::domain::coefficients::poly(&f.coefficients, q.t_c);
+    let (t_c, emf) = match (q.t_c, q.emf_mv) {
+        (Some(t), None) => {
+            if !t.is_finite() {
+                return Err(AppError::invalid("t_c", "must be a finite temperature in °C").into());
+            }
+            if t < f.valid_from_t_c || t > f.valid_to_t_c {
+                return Err(outside_validity("t_c", format!("{t} °C"), &c.number, &f));
+            }
+            (t, None)
+        }
+        (None, Some(e)) => {
+            let tc: ThermocoupleType = instrument
+                .tc_type
+                .as_deref()
+                .and_then(|t| t.parse().ok())
+                .ok_or_else(|| {
+                AppError::invalid(
+                    "emf_mv",
+                    format!("instrument {serial} is not a thermocouple; ask with t_c (°C)"),
+                )
+            })?;
+            let coefficients = f.emf_coefficients.as_deref().ok_or_else(|| {
+                AppError::invalid(
+                    "emf_mv",
+                    format!(
+                        "certificate {} states no emf deviation function; ask with t_c (°C)",
+                        c.number
+                    ),
+                )
+            })?;
+            let (t, indicated) = temperature_from_emf(tc, e, coefficients)
+                .map_err(|err| AppError::invalid("emf_mv", err.to_string()))?;
+            if t < f.valid_from_t_c || t > f.valid_to_t_c {
+                return Err(outside_validity(
+                    "emf_mv",
+                    format!("{e} mV (about {t:.3} °C)"),
+                    &c.number,
+                    &f,
+                ));
+            }
+            (t, Some((e, indicated)))
+        }
+        _ => {
+            return Err(AppError::invalid(
+                "query",
+                "give exactly one of t_c (temperature, °C) and emf_mv (thermocouple emf, mV, reference junction at 0 °C)",
+            )
+            .into());
+        }
+    };
+    let deviation_c = crate::domain::coefficients::poly(&f.coefficients, t_c);
+    let emf_deviation_mv = f
+        .emf_coefficients
+        .as_deref()
+        .map(|e| crate::domain::coefficients::poly(e, t_c));
     Ok(Json(EvaluateOut {
-        t_c: q.t_c,
+        t_c,
         deviation_c,
         correction_c: -deviation_c,
         expanded_uncertainty_c: f.expanded_uncertainty_c,
         coverage_factor: f.coverage_factor,
         certificate_number: c.number,
+        emf_mv: emf.map(|e| e.0),
+        indicated_t_c: emf.map(|e| e.1),
+        emf_deviation_mv,
     }))
 }
 
