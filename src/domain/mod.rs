@@ -5,5 +5,6 @@
 
 pub mod certificates;
 pub mod coefficients;
+pub mod history;
 pub mod readings;
 pub mod results;

@@ -1,6 +1,7 @@
 //! Rendering of results for people: the deviation plot (SVG) now;
 //! certificates (HTML, PDF, JSON) join here.
 
+pub mod drift;
 pub mod pdf;
 pub mod plot;
 pub mod snapshot;

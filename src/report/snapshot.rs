@@ -253,6 +253,32 @@ impl CertificateSnapshot {
         serde_json::to_string(self)
     }
 
+    /// The least favourable conformity outcome over the set points, as the
+    /// register stores it: "fail", "conditional_fail", "conditional_pass",
+    /// "pass", or "no_statement" when no point carries one.
+    ///
+    /// # Reference
+    /// ILAC-G8:09/2019 4.2.3 (the four outcomes of a decision).
+    #[must_use]
+    pub fn overall_outcome(&self) -> &'static str {
+        let has = |label: &str| {
+            self.results
+                .iter()
+                .any(|r| r.outcome.as_deref() == Some(label))
+        };
+        if has("fail") {
+            "fail"
+        } else if has("conditional fail") {
+            "conditional_fail"
+        } else if has("conditional pass") {
+            "conditional_pass"
+        } else if has("pass") {
+            "pass"
+        } else {
+            "no_statement"
+        }
+    }
+
     /// SHA-256 of the canonical JSON, lowercase hex: the fingerprint.
     ///
     /// # Errors

@@ -71,6 +71,8 @@ pub struct NewCertificate<'a> {
     pub replaces_id: Option<i64>,
     /// Amendment reason.
     pub amendment_reason: Option<&'a str>,
+    /// Least favourable conformity outcome (see `certificate_facts`).
+    pub outcome: &'a str,
 }
 
 /// Inserts a certificate; returns its id.
@@ -79,7 +81,7 @@ pub struct NewCertificate<'a> {
 /// Any database error.
 pub async fn insert(conn: &mut SqliteConnection, c: &NewCertificate<'_>) -> sqlx::Result<i64> {
     let now = super::now_timestamp();
-    sqlx::query_scalar!(
+    let id = sqlx::query_scalar!(
         r#"INSERT INTO certificate (number, revision, run_id, instrument_id, issued_on, approved_by,
                snapshot, sha256, replaces_id, amendment_reason, created_at)
            VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING id AS "id!: i64""#,
@@ -95,8 +97,16 @@ pub async fn insert(conn: &mut SqliteConnection, c: &NewCertificate<'_>) -> sqlx
         c.amendment_reason,
         now
     )
-    .fetch_one(conn)
-    .await
+    .fetch_one(&mut *conn)
+    .await?;
+    sqlx::query!(
+        "INSERT INTO certificate_facts (certificate_id, outcome) VALUES (?, ?)",
+        id,
+        c.outcome
+    )
+    .execute(conn)
+    .await?;
+    Ok(id)
 }
 
 /// Records that `old_id` was replaced by `new_id`.
@@ -238,49 +248,202 @@ pub struct RegisterLine {
     pub revision: i64,
     /// Issue date.
     pub issued_on: String,
+    /// Calibration date (the run's date).
+    pub calibrated_on: String,
     /// Instrument serial.
     pub serial: String,
     /// Instrument kind.
     pub kind: String,
     /// Customer.
     pub customer: String,
+    /// Least favourable conformity outcome.
+    pub outcome: String,
+    /// Asset id of the reference standard.
+    pub reference: String,
     /// Whether a later revision replaced it.
     pub replaced: bool,
 }
 
-/// Certificates newest first, filtered by a text found in the number, the
-/// serial or the customer's name, and by issue dates; keyset pagination
-/// (`before_id`) so that deep pages stay as fast as the first.
+/// Filters of the register; empty strings and 0 mean "any".
+#[derive(Debug, Clone, Default)]
+pub struct RegisterFilter {
+    /// Text found in the number, the serial or the customer's name.
+    pub text: String,
+    /// First issue date (YYYY-MM-DD), inclusive.
+    pub from: String,
+    /// Last issue date, inclusive.
+    pub to: String,
+    /// Instrument kind.
+    pub kind: String,
+    /// Outcome as stored in `certificate_facts`.
+    pub outcome: String,
+    /// Equipment used in any role (reference, readout, medium); 0 = any.
+    pub equipment_id: i64,
+}
+
+/// Certificates newest first, filtered; keyset pagination (`before_id`)
+/// so that deep pages stay as fast as the first.
 ///
 /// # Errors
 /// Any database error.
 pub async fn register(
     conn: &mut SqliteConnection,
-    text: &str,
-    from: &str,
-    to: &str,
+    f: &RegisterFilter,
     before_id: i64,
     limit: i64,
 ) -> sqlx::Result<Vec<RegisterLine>> {
-    let pattern = format!("%{}%", text.replace('%', "\\%").replace('_', "\\_"));
+    let pattern = if f.text.is_empty() {
+        String::new()
+    } else {
+        format!("%{}%", f.text.replace('%', "\\%").replace('_', "\\_"))
+    };
+    let from = if f.from.is_empty() {
+        "0000-01-01"
+    } else {
+        &f.from
+    };
+    let to = if f.to.is_empty() { "9999-12-31" } else { &f.to };
     sqlx::query_as!(
         RegisterLine,
-        r#"SELECT c.id AS "id!: i64", c.number, c.revision, c.issued_on, i.serial, i.kind,
-                  cu.name AS customer, (r.certificate_id IS NOT NULL) AS "replaced!: bool"
+        r#"SELECT c.id AS "id!: i64", c.number, c.revision, c.issued_on, ru.performed_on AS calibrated_on,
+                  i.serial, i.kind, cu.name AS customer, f.outcome, e.asset_id AS reference,
+                  (r.certificate_id IS NOT NULL) AS "replaced!: bool"
            FROM certificate c
+           JOIN certificate_facts f ON f.certificate_id = c.id
+           JOIN run ru ON ru.id = c.run_id
+           JOIN equipment e ON e.id = ru.reference_id
            JOIN instrument i ON i.id = c.instrument_id
            JOIN customer cu ON cu.id = i.customer_id
            LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
            WHERE c.id < ?1
-             AND (c.number LIKE ?2 ESCAPE '\' OR i.serial LIKE ?2 ESCAPE '\' OR cu.name LIKE ?2 ESCAPE '\')
+             AND (?2 = '' OR c.number LIKE ?2 ESCAPE '\' OR i.serial LIKE ?2 ESCAPE '\' OR cu.name LIKE ?2 ESCAPE '\')
              AND c.issued_on BETWEEN ?3 AND ?4
-           ORDER BY c.id DESC LIMIT ?5"#,
+             AND (?5 = '' OR i.kind = ?5)
+             AND (?6 = '' OR f.outcome = ?6)
+             AND (?7 = 0 OR ru.reference_id = ?7 OR ru.reference_readout_id = ?7
+                  OR ru.uut_readout_id = ?7 OR ru.medium_id = ?7)
+           ORDER BY c.id DESC LIMIT ?8"#,
         before_id,
         pattern,
         from,
         to,
+        f.kind,
+        f.outcome,
+        f.equipment_id,
         limit
     )
     .fetch_all(conn)
     .await
+}
+
+/// A certificate whose run used a given equipment item.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ImpactLine {
+    /// Number.
+    pub number: String,
+    /// Revision.
+    pub revision: i64,
+    /// Issue date.
+    pub issued_on: String,
+    /// Calibration date (the day the item was used).
+    pub calibrated_on: String,
+    /// Instrument serial.
+    pub serial: String,
+    /// Instrument kind.
+    pub kind: String,
+    /// Customer.
+    pub customer: String,
+    /// Customer's contact e-mail (to notify).
+    pub customer_email: String,
+    /// The roles the item played: "reference", "reference readout", "unit readout", "medium".
+    pub roles: String,
+    /// Least favourable conformity outcome.
+    pub outcome: String,
+    /// Whether a later revision replaced it.
+    pub replaced: bool,
+}
+
+/// Every certificate (all revisions) whose run used `equipment_id` in any
+/// role with a calibration date in [from, to], oldest first.
+///
+/// # Errors
+/// Any database error.
+pub async fn impact(
+    conn: &mut SqliteConnection,
+    equipment_id: i64,
+    from: &str,
+    to: &str,
+) -> sqlx::Result<Vec<ImpactLine>> {
+    sqlx::query_as!(
+        ImpactLine,
+        r#"SELECT c.number, c.revision, c.issued_on, ru.performed_on AS calibrated_on,
+                  i.serial, i.kind, cu.name AS customer, cu.contact_email AS customer_email,
+                  trim(CASE WHEN ru.reference_id = ?1 THEN 'reference ' ELSE '' END
+                    || CASE WHEN ru.reference_readout_id = ?1 THEN 'reference-readout ' ELSE '' END
+                    || CASE WHEN ru.uut_readout_id = ?1 THEN 'unit-readout ' ELSE '' END
+                    || CASE WHEN ru.medium_id = ?1 THEN 'medium' ELSE '' END) AS "roles!: String",
+                  f.outcome, (r.certificate_id IS NOT NULL) AS "replaced!: bool"
+           FROM run ru
+           JOIN certificate c ON c.run_id = ru.id
+           JOIN certificate_facts f ON f.certificate_id = c.id
+           JOIN instrument i ON i.id = c.instrument_id
+           JOIN customer cu ON cu.id = i.customer_id
+           LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
+           WHERE (ru.reference_id = ?1 OR ru.reference_readout_id = ?1 OR ru.uut_readout_id = ?1 OR ru.medium_id = ?1)
+             AND ru.performed_on BETWEEN ?2 AND ?3
+           ORDER BY ru.performed_on, c.number, c.revision"#,
+        equipment_id,
+        from,
+        to
+    )
+    .fetch_all(conn)
+    .await
+}
+
+/// Every certificate of an instrument (all revisions) with its
+/// calibration date and outcome, oldest calibration first.
+///
+/// # Errors
+/// Any database error.
+pub async fn history(
+    conn: &mut SqliteConnection,
+    instrument_id: i64,
+) -> sqlx::Result<Vec<(Certificate, String, String)>> {
+    let rows = sqlx::query!(
+        r#"SELECT c.id AS "id!: i64", c.number, c.revision, c.run_id, c.instrument_id, c.issued_on,
+                  c.approved_by, c.snapshot, c.sha256, c.replaces_id, c.amendment_reason,
+                  r.replaced_by_id AS "replaced_by_id?: i64", ru.performed_on, f.outcome
+           FROM certificate c
+           JOIN run ru ON ru.id = c.run_id
+           JOIN certificate_facts f ON f.certificate_id = c.id
+           LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
+           WHERE c.instrument_id = ?
+           ORDER BY ru.performed_on, c.issued_on, c.id"#,
+        instrument_id
+    )
+    .fetch_all(conn)
+    .await?;
+    Ok(rows
+        .into_iter()
+        .map(|r| {
+            (
+                Certificate {
+                    id: r.id,
+                    number: r.number,
+                    revision: r.revision,
+                    run_id: r.run_id,
+                    instrument_id: r.instrument_id,
+                    issued_on: r.issued_on,
+                    approved_by: r.approved_by,
+                    snapshot: r.snapshot,
+                    sha256: r.sha256,
+                    replaces_id: r.replaces_id,
+                    amendment_reason: r.amendment_reason,
+                    replaced_by_id: r.replaced_by_id,
+                },
+                r.performed_on,
+                r.outcome,
+            )
+        })
+        .collect())
 }

@@ -26,14 +26,20 @@ async fn set_up_lab(lab: &Lab) {
     }
 }
 
-fn ok(answer: &crate::helpers::Answer, status: StatusCode) -> Value {
+pub fn ok(answer: &crate::helpers::Answer, status: StatusCode) -> Value {
     assert_eq!(answer.status, status, "{}", answer.text());
     answer.json()
 }
 
 /// A Pt100 run against the reference PRT at 50 °C and 100 °C, submitted by
 /// `token`'s user; returns (run id, version).
-async fn submitted_run(lab: &Lab, token: &str, serial: &str) -> (i64, i64) {
+pub async fn submitted_run(lab: &Lab, token: &str, serial: &str) -> (i64, i64) {
+    register_pt100(lab, token, serial).await;
+    submitted_run_on(lab, token, serial, "2026-11-20", 0.0).await
+}
+
+/// Registers a Pt100 of an invented customer.
+pub async fn register_pt100(lab: &Lab, token: &str, serial: &str) {
     set_up_lab(lab).await;
     let customer = ok(
         &call(
@@ -58,8 +64,19 @@ async fn submitted_run(lab: &Lab, token: &str, serial: &str) -> (i64, i64) {
         .await,
         StatusCode::CREATED,
     );
+}
+
+/// A run of `serial` on `date` whose unit reads `shift_ohm` more than in
+/// [`submitted_run`], submitted by `token`'s user; returns (run id, version).
+pub async fn submitted_run_on(
+    lab: &Lab,
+    token: &str,
+    serial: &str,
+    date: &str,
+    shift_ohm: f64,
+) -> (i64, i64) {
     let run = ok(&call(&lab.app, "POST", "/api/v1/runs", Some(token), Some(json!({
-        "instrument_serial": serial, "reference": "REF-PRT-01", "medium": "BATH-01", "performed_on": "2026-11-20",
+        "instrument_serial": serial, "reference": "REF-PRT-01", "medium": "BATH-01", "performed_on": date,
         "procedure_ref": "TP-04 rev 3", "tolerance_class": "A", "decision_rule": "simple"}))).await, StatusCode::CREATED);
     let id = run["id"].as_i64().expect("id");
     let mut version = 1;
@@ -75,7 +92,7 @@ async fn submitted_run(lab: &Lab, token: &str, serial: &str) -> (i64, i64) {
             .await,
             StatusCode::CREATED,
         );
-        let readings: Vec<Value> = (0..4).map(|i| json!({"reference_signal": r_ref + 1e-4 * f64::from(i), "uut_signal": r_uut + 1e-4 * f64::from(i % 2)})).collect();
+        let readings: Vec<Value> = (0..4).map(|i| json!({"reference_signal": r_ref + 1e-4 * f64::from(i), "uut_signal": r_uut + shift_ohm + 1e-4 * f64::from(i % 2)})).collect();
         let added = ok(
             &call(
                 &lab.app,

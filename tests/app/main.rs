@@ -10,5 +10,6 @@ mod helpers;
 mod pages;
 mod records;
 mod reference;
+mod register;
 mod results;
 mod smoke;

@@ -581,6 +581,68 @@ async fn certificates_are_found_in_the_register_and_can_be_checked_by_anyone(poo
         .await
         .text();
     assert!(dated.contains("No certificate matches."));
+    // Filters: instrument type, standard used, and a refused bad value.
+    let link = format!("href=\"/certificates/{number}\"");
+    assert!(
+        browser
+            .get("/certificates?kind=prt")
+            .await
+            .text()
+            .contains(&link)
+    );
+    assert!(
+        !browser
+            .get("/certificates?kind=thermocouple")
+            .await
+            .text()
+            .contains(&link)
+    );
+    assert!(
+        browser
+            .get("/certificates?equipment=LTM-SPRT-01")
+            .await
+            .text()
+            .contains(&link)
+    );
+    assert!(
+        !browser
+            .get("/certificates?equipment=LTM-FURN-08")
+            .await
+            .text()
+            .contains(&link)
+    );
+    let bad = browser.get("/certificates?kind=kettle").await.text();
+    assert!(bad.contains("is not an instrument kind"), "{bad}");
+
+    // The impact list of the reference SPRT, on screen and as CSV.
+    let impact = browser
+        .get("/impact?equipment=LTM-SPRT-01&from=2026-11-01&to=2026-11-30")
+        .await
+        .text();
+    assert!(impact.contains(&link), "{impact}");
+    assert!(impact.contains("Download as CSV"));
+    let csv = browser
+        .get("/impact.csv?equipment=LTM-SPRT-01&from=2026-11-01&to=2026-11-30")
+        .await;
+    assert_eq!(csv.content_type(), "text/csv; charset=utf-8");
+    assert!(csv.text().starts_with("certificate,revision,state,"));
+    assert!(
+        csv.text().contains(&format!("{number},0,current,")),
+        "{}",
+        csv.text()
+    );
+
+    // The instrument's history: its certificate and the drift chart.
+    let history = browser.get("/instruments/CVW-PT-1187").await.text();
+    assert!(
+        history.contains(&format!("/certificates/{number}?revision=0")),
+        "{history}"
+    );
+    assert!(
+        history.contains("<svg")
+            && history.contains("Deviation of CVW-PT-1187 by calibration date")
+    );
+    assert!(history.contains("Needs two current certificates"));
 
     // A stranger (no session) checks the certificate.
     let mut stranger = Browser {

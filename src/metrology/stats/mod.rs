@@ -13,7 +13,9 @@
 //! | [`montecarlo`] | Monte Carlo propagation, adaptive procedure, validation | JCGM 101:2008 7, 8 |
 //! | [`rounding`] | rounding of U and of the result, CMC floor | ILAC-P14, JCGM 100 7.2.6 |
 //! | [`decision`] | conformity decision rules | ILAC-G8:09/2019 4.2 |
+//! | [`comparison`] | normalized error E_n of two results | ISO/IEC 17043:2010 B.3.1.3 |
 
+pub mod comparison;
 pub mod coverage;
 pub mod cvd_fit;
 mod dd;
@@ -24,6 +26,7 @@ pub mod lsq;
 pub mod montecarlo;
 pub mod rounding;
 
+pub use comparison::normalized_error;
 pub use coverage::{P_K1, P_K2, P_K3, coverage_factor, normal_coverage_probability};
 pub use cvd_fit::{CTerm, CvdFit, CvdOptions, fit_cvd};
 pub use decision::{Decision, DecisionRule, Limits, Outcome, Tolerance, decide};

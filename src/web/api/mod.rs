@@ -6,6 +6,7 @@ pub mod health;
 pub mod openapi;
 pub mod records;
 pub mod reference;
+pub mod register;
 pub mod results;
 pub mod review;
 pub mod runs;
@@ -91,9 +92,15 @@ pub fn routes() -> Router<AppState> {
             post(review::return_to_technician),
         )
         .route("/api/v1/review", get(review::queue))
+        .route("/api/v1/certificates", get(register::list))
         .route(
             "/api/v1/certificates/{number}",
             get(review::certificate_json),
+        )
+        .route("/api/v1/equipment/{asset_id}/impact", get(register::impact))
+        .route(
+            "/api/v1/instruments/{serial}/history",
+            get(register::history),
         )
         .route(
             "/api/v1/certificates/{number}/pdf",

@@ -468,6 +468,27 @@ const RECORD_ROUTES: &[(&str, &str, &str, bool, &str)] = &[
         "200",
     ),
     (
+        "/api/v1/certificates",
+        "get",
+        "The certificate register, newest first: ?q= (text in number, serial or customer), from, to (issue dates YYYY-MM-DD), kind (thermocouple, prt, sprt, indicating, switch), outcome (pass, conditional_pass, conditional_fail, fail, no_statement: the least favourable over the set points), equipment (asset id used in any role), limit (1-500, default 50), before (keyset cursor: pass next_before from the previous page)",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/equipment/{asset_id}/impact",
+        "get",
+        "Every certificate (all revisions) whose calibration used the item in any role with a calibration date in ?from=&to= (YYYY-MM-DD), oldest first, with the customer's contact; &format=csv for a CSV download",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/instruments/{serial}/history",
+        "get",
+        "The instrument's certificates (all revisions), the deviation at each set point by calibration date (current revisions) and, between consecutive calibrations, the change and its normalized error E_n = (d2 - d1) / sqrt(U1^2 + U2^2)",
+        false,
+        "200",
+    ),
+    (
         "/api/v1/impact",
         "get",
         "Every run that used an equipment item between two dates: ?asset_id=&from=YYYY-MM-DD&to=YYYY-MM-DD",

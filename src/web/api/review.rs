@@ -144,6 +144,7 @@ pub async fn approve_run(
             sha256: &sha256,
             replaces_id: None,
             amendment_reason: None,
+            outcome: snapshot.overall_outcome(),
         },
     )
     .await
@@ -663,6 +664,7 @@ pub async fn amend_certificate(
             sha256: &sha256,
             replaces_id: Some(old.id),
             amendment_reason: Some(reason.trim()),
+            outcome: snapshot.overall_outcome(),
         },
     )
     .await?;

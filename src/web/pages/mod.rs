@@ -3,6 +3,7 @@
 
 pub mod auth;
 pub mod convert;
+pub mod register;
 pub mod review;
 pub mod runs;
 
@@ -47,7 +48,10 @@ pub fn routes() -> Router<AppState> {
             axum::routing::post(review::return_to_technician),
         )
         .route("/review", get(review::queue))
-        .route("/certificates", get(review::register))
+        .route("/certificates", get(register::register))
+        .route("/impact", get(register::impact))
+        .route("/impact.csv", get(register::impact_csv))
+        .route("/instruments/{serial}", get(register::history))
         .route("/verify", get(review::verify_page))
         .route("/certificates/{number}", get(review::certificate))
         .route("/certificates/{number}/pdf", get(review::certificate_pdf))

@@ -146,17 +146,43 @@ impl CertificatePage {
     }
 }
 
-/// `GET /certificates/{number}`: the latest revision as a page.
+/// `?revision=N` of the certificate pages (latest when absent).
+fn revision_of(params: &HashMap<String, String>) -> Result<Option<i64>, AppError> {
+    match params.get("revision").map(|r| r.trim()) {
+        None | Some("") => Ok(None),
+        Some(r) => r
+            .parse::<i64>()
+            .ok()
+            .filter(|r| *r >= 0)
+            .map(Some)
+            .ok_or_else(|| {
+                AppError::invalid(
+                    "revision",
+                    format!("{r:?} is not a revision number (0, 1, 2, ...)"),
+                )
+            }),
+    }
+}
+
+/// `GET /certificates/{number}[?revision=N]`: a revision (the latest by
+/// default) as a page.
 pub async fn certificate(
     State(state): State<AppState>,
     user: PageUser,
     Path(number): Path<String>,
+    axum::extract::Query(params): axum::extract::Query<HashMap<String, String>>,
 ) -> Result<Html<String>, PageError> {
+    let revision = revision_of(&params)?;
     let mut conn = state.db.acquire().await.map_err(AppError::from)?;
-    let row = certificates::by_number(&mut conn, &number, None)
+    let row = certificates::by_number(&mut conn, &number, revision)
         .await
         .map_err(AppError::from)?
-        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
+        .ok_or_else(|| {
+            AppError::NotFound(match revision {
+                Some(r) => format!("there is no revision {r} of certificate {number:?}"),
+                None => format!("there is no certificate {number:?}"),
+            })
+        })?;
     let c: CertificateSnapshot = serde_json::from_str(&row.snapshot)
         .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
     let plot = crate::report::plot::DeviationPlot {
@@ -218,12 +244,19 @@ pub async fn certificate_pdf(
     State(state): State<AppState>,
     _user: PageUser,
     Path(number): Path<String>,
+    axum::extract::Query(params): axum::extract::Query<HashMap<String, String>>,
 ) -> Result<Response, PageError> {
+    let revision = revision_of(&params)?;
     let mut conn = state.db.acquire().await.map_err(AppError::from)?;
-    let row = certificates::by_number(&mut conn, &number, None)
+    let row = certificates::by_number(&mut conn, &number, revision)
         .await
         .map_err(AppError::from)?
-        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
+        .ok_or_else(|| {
+            AppError::NotFound(match revision {
+                Some(r) => format!("there is no revision {r} of certificate {number:?}"),
+                None => format!("there is no certificate {number:?}"),
+            })
+        })?;
     drop(conn);
     let pdf = pdf_of(&row.snapshot).await?;
     Ok(([(header::CONTENT_TYPE, "application/pdf")], pdf).into_response())
@@ -296,73 +329,6 @@ pub async fn verify_page(
         number,
         fingerprint,
         verdict,
-    };
-    Ok(Html(page.render().map_err(AppError::from)?))
-}
-
-#[derive(Template)]
-#[template(path = "register.html")]
-struct RegisterPage {
-    nav: Nav,
-    q: String,
-    from: String,
-    to: String,
-    lines: Vec<crate::store::certificates::RegisterLine>,
-    next: Option<String>,
-}
-
-/// Certificates per register page.
-pub const REGISTER_PAGE: i64 = 50;
-
-/// `GET /certificates?q=..&from=..&to=..&before=..`: the certificate register.
-pub async fn register(
-    State(state): State<AppState>,
-    user: PageUser,
-    axum::extract::Query(params): axum::extract::Query<HashMap<String, String>>,
-) -> Result<Html<String>, PageError> {
-    let q = params.get("q").map_or("", |s| s.trim()).to_owned();
-    let from = params
-        .get("from")
-        .map(|s| s.trim().to_owned())
-        .filter(|s| !s.is_empty())
-        .unwrap_or_else(|| "0000-01-01".to_owned());
-    let to = params
-        .get("to")
-        .map(|s| s.trim().to_owned())
-        .filter(|s| !s.is_empty())
-        .unwrap_or_else(|| "9999-12-31".to_owned());
-    let before = params
-        .get("before")
-        .and_then(|b| b.parse().ok())
-        .unwrap_or(i64::MAX);
-    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
-    let lines = certificates::register(&mut conn, &q, &from, &to, before, REGISTER_PAGE)
-        .await
-        .map_err(AppError::from)?;
-    let next = (lines.len() as i64 == REGISTER_PAGE).then(|| {
-        let last = lines.last().map_or(0, |l| l.id);
-        format!(
-            "/certificates?q={}&from={}&to={}&before={last}",
-            crate::web::session::percent_encode(&q),
-            crate::web::session::percent_encode(&from),
-            crate::web::session::percent_encode(&to)
-        )
-    });
-    let page = RegisterPage {
-        nav: Nav::of(Some(&user)),
-        q,
-        from: if from == "0000-01-01" {
-            String::new()
-        } else {
-            from
-        },
-        to: if to == "9999-12-31" {
-            String::new()
-        } else {
-            to
-        },
-        lines,
-        next,
     };
     Ok(Html(page.render().map_err(AppError::from)?))
 }
