@@ -84,7 +84,7 @@ async fn the_register_filters_by_type_outcome_and_standard_with_keyset_pages(poo
         &get(&lab, "/api/v1/certificates?equipment=BATH-01&q=PT-H2").await,
         StatusCode::OK,
     );
-    assert_eq!(numbers(&by_medium), [h2.clone()]);
+    assert_eq!(numbers(&by_medium), [h2.as_str()]);
     let unused = ok(
         &get(&lab, "/api/v1/certificates?equipment=DMM-01").await,
         StatusCode::OK,
@@ -121,7 +121,7 @@ async fn the_register_filters_by_type_outcome_and_standard_with_keyset_pages(poo
             .await,
             StatusCode::OK,
         );
-        assert_eq!(numbers(&found), [number.clone()], "{worst}");
+        assert_eq!(numbers(&found), [number.as_str()], "{worst}");
         let other = if worst == "pass" { "fail" } else { "pass" };
         let not_found = ok(
             &get(
@@ -149,7 +149,7 @@ async fn the_register_filters_by_type_outcome_and_standard_with_keyset_pages(poo
         .await,
         StatusCode::OK,
     );
-    assert_eq!(numbers(&second), [a.clone()]);
+    assert_eq!(numbers(&second), [a.as_str()]);
     assert!(second.get("next_before").is_none());
 
     // Bad filters name the field and what is allowed.
