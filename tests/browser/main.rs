@@ -132,3 +132,50 @@ fn a_technician_records_a_run_in_the_browser() {
     assert!(s.text("main").contains("waiting for review"));
     assert!(!s.source().contains("Save readings"));
 }
+
+#[test]
+fn a_reviewer_approves_a_run_and_finds_its_certificate() {
+    let server = start_server();
+    let driver = webdriver::Driver::start();
+    let mut s = Session::new(&driver);
+    let base = &server.base;
+
+    s.go(&format!("{base}/sign-in"));
+    s.type_into("#username", "demo-reviewer");
+    s.type_into("#password", "juncture-demo");
+    s.submit("form.stacked button[type=submit]");
+
+    // The review queue lists the demo's submitted run; open it and approve.
+    s.go(&format!("{base}/review"));
+    assert!(s.text("main").contains("CVW-PT-1187"), "{}", s.text("main"));
+    s.submit("main a[href='/runs/1']");
+    s.submit("#approve-run");
+    let url = s.url();
+    assert!(
+        url.contains("/certificates/LTM-"),
+        "the certificate page: {url}"
+    );
+    let number = url.rsplit('/').next().expect("number").to_owned();
+    let page = s.text("main");
+    assert!(
+        page.contains(&format!("Calibration Certificate {number}")),
+        "{page}"
+    );
+    assert!(page.contains("CVW-PT-1187"));
+    assert!(page.contains("revision 0"));
+
+    // Download the PDF through the page's own link.
+    let href = s.attribute("a[href*='/pdf']", "href").expect("PDF link");
+    let (status, kind, head, size) = s.fetch(&href);
+    assert_eq!(status, 200);
+    assert_eq!(kind, "application/pdf");
+    assert!(head.starts_with("%PDF-"), "{head}");
+    assert!(size > 10_000, "a PDF with an embedded font: {size} bytes");
+
+    // Find it in the register by its serial number.
+    s.go(&format!("{base}/certificates"));
+    s.type_into("#q", "CVW-PT-1187");
+    s.submit("form[action='/certificates'] button[type=submit]");
+    let link = format!("a[href='/certificates/{number}']");
+    assert_eq!(s.text(&link), number);
+}

@@ -154,7 +154,10 @@ impl<'a> Session<'a> {
     /// Opens headless Chromium.
     pub fn new(driver: &'a Driver) -> Self {
         let binary = std::env::var("CHROMIUM").unwrap_or_else(|_| "/usr/bin/chromium".to_owned());
-        let profile = std::env::temp_dir().join(format!("juncture-browser-{}", std::process::id()));
+        static SESSIONS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+        let n = SESSIONS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+        let profile =
+            std::env::temp_dir().join(format!("juncture-browser-{}-{n}", std::process::id()));
         let caps = json!({"capabilities": {"alwaysMatch": {
             "browserName": "chrome",
             "goog:chromeOptions": {
@@ -275,6 +278,28 @@ impl<'a> Session<'a> {
             );
             std::thread::sleep(Duration::from_millis(50));
         }
+    }
+
+    /// Fetches `url` from inside the page (with the page's cookies, as a
+    /// download link would) and returns the status, the content type, the
+    /// first bytes (as text, one char per byte) and the size.
+    pub fn fetch(&self, url: &str) -> (u64, String, String, u64) {
+        let script = "const done = arguments[arguments.length - 1];\
+            fetch(arguments[0]).then(r => r.arrayBuffer().then(b => done({\
+              status: r.status, type: r.headers.get('content-type'),\
+              head: String.fromCharCode(...new Uint8Array(b.slice(0, 8))), size: b.byteLength})))\
+            .catch(e => done({status: 0, type: String(e), head: '', size: 0}));";
+        let v = self.call(
+            "POST",
+            "/execute/async",
+            Some(json!({"script": script, "args": [url]})),
+        );
+        (
+            v["status"].as_u64().unwrap_or(0),
+            v["type"].as_str().unwrap_or("").to_owned(),
+            v["head"].as_str().unwrap_or("").to_owned(),
+            v["size"].as_u64().unwrap_or(0),
+        )
     }
 
     /// The visible text of an element.
