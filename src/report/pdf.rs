@@ -997,7 +997,7 @@ fn results_table(results: &[ResultRow]) -> (Vec<Column>, Vec<Vec<String>>) {
             if has_emf {
                 row.push(
                     r.deviation_emf_mv
-                        .map_or_else(|| "—".to_string(), |v| fmt_trim(v, 4)),
+                        .map_or_else(|| "—".to_string(), |v| format!("{v:.4}")),
                 );
             }
             if has_outcome {
@@ -1177,18 +1177,18 @@ struct Axis {
     decimals: usize,
 }
 
-fn axis(min: f64, max: f64, target: f64, min_half: f64) -> Axis {
+fn axis(min: f64, max: f64, target: f64, min_half: f64, pad: f64) -> Axis {
     let (mut lo, mut hi) = (min, max);
     if !(hi - lo).is_finite() || hi - lo < 1e-12 {
         let half = (lo.abs() * 0.1).max(min_half);
         lo -= half;
         hi += half;
     }
+    // The frame runs a little past the data so that no point, error bar or
+    // limit sits on it; ticks are the step's multiples inside the frame.
+    let margin = (hi - lo) * pad;
+    let (lo, hi) = (lo - margin, hi + margin);
     let step = nice_step(hi - lo, target);
-    // A value a hair past a tick (150.021 on a 25 step) does not earn a
-    // whole extra interval.
-    let lo = (lo / step + 0.005).floor() * step;
-    let hi = (hi / step - 0.005).ceil() * step;
     let mut decimals = (-step.log10().floor()).max(0.0) as usize;
     if (step / 10f64.powf(step.log10().floor()) - 2.5).abs() < 1e-9 {
         decimals += 1;
@@ -1198,6 +1198,15 @@ fn axis(min: f64, max: f64, target: f64, min_half: f64) -> Axis {
         hi,
         step,
         decimals,
+    }
+}
+
+impl Axis {
+    /// The tick values: multiples of the step inside [lo, hi].
+    fn ticks(&self) -> Vec<f64> {
+        let first = (self.lo / self.step - 1e-9).ceil() as i64;
+        let last = (self.hi / self.step + 1e-9).floor() as i64;
+        (first..=last).map(|i| i as f64 * self.step).collect()
     }
 }
 
@@ -1241,8 +1250,8 @@ fn plot_section(lay: &mut Layout<'_>, plot: &PlotBlock) {
     if !x_min.is_finite() || !y_min.is_finite() {
         return;
     }
-    let ax = axis(x_min, x_max, 7.0, 1.0);
-    let ay = axis(y_min.min(0.0), y_max.max(0.0), 6.0, 0.05);
+    let ax = axis(x_min, x_max, 7.0, 1.0, 0.03);
+    let ay = axis(y_min.min(0.0), y_max.max(0.0), 6.0, 0.05, 0.06);
 
     let fonts = lay.fonts;
     let top = lay.y + TOP_GUTTER;
@@ -1255,9 +1264,7 @@ fn plot_section(lay: &mut Layout<'_>, plot: &PlotBlock) {
 
     let p = lay.page();
     // Grid, ticks and tick labels.
-    let nx = ((ax.hi - ax.lo) / ax.step).round() as i64;
-    for i in 0..=nx {
-        let t = ax.lo + i as f64 * ax.step;
+    for t in ax.ticks() {
         let x = px(t);
         p.polyline(&[(x, top), (x, bottom)], 0.3, RULE);
         p.polyline(&[(x, bottom), (x, bottom + 3.5)], 0.6, INK);
@@ -1272,9 +1279,7 @@ fn plot_section(lay: &mut Layout<'_>, plot: &PlotBlock) {
             &fmt_trim(t, ax.decimals),
         );
     }
-    let ny = ((ay.hi - ay.lo) / ay.step).round() as i64;
-    for i in 0..=ny {
-        let v = ay.lo + i as f64 * ay.step;
+    for v in ay.ticks() {
         let y = py(v);
         let zero = v.abs() < ay.step * 1e-6;
         p.polyline(
@@ -1392,7 +1397,7 @@ fn plot_section(lay: &mut Layout<'_>, plot: &PlotBlock) {
         x += 28.0 + fonts.width(Face::Regular, SMALL, label);
     };
     if !plot.points.is_empty() {
-        entry(p, "Measured deviation with U", &|p, x| {
+        entry(p, "Measured deviation ± U", &|p, x| {
             let c = x + 8.0;
             p.polyline(&[(c, ly - 5.0), (c, ly + 5.0)], 0.7, INK);
             p.fill_polygon(
@@ -1407,7 +1412,7 @@ fn plot_section(lay: &mut Layout<'_>, plot: &PlotBlock) {
         });
     }
     if has_band {
-        entry(p, "Expanded uncertainty of the function", &|p, x| {
+        entry(p, "U of the function", &|p, x| {
             p.fill_rect(x, ly - 4.0, 16.0, 8.0, BAND);
         });
     }

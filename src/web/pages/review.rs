@@ -137,6 +137,22 @@ impl CertificatePage {
     fn immersion(&self) -> String {
         opt(self.c.conditions.immersion_mm, "mm")
     }
+    fn has_emf(&self) -> bool {
+        self.c.results.iter().any(|r| r.deviation_emf_mv.is_some())
+    }
+    fn emf(&self, v: &Option<f64>) -> String {
+        v.map_or_else(|| "—".to_owned(), |v| format!("{v:.4}"))
+    }
+    fn nominal(&self, v: &f64) -> String {
+        format!("{v}")
+    }
+    fn emf_coefficient(&self, i: &usize, value: &f64) -> String {
+        match i {
+            0 => format!("b0 = {value:.7e} mV"),
+            1 => format!("b1 = {value:.7e} mV/°C"),
+            i => format!("b{i} = {value:.7e} mV/°C^{i}"),
+        }
+    }
     fn coefficient(&self, i: &usize, value: &f64) -> String {
         match i {
             0 => format!("c0 = {value:.7e} °C"),
