@@ -483,6 +483,10 @@ async fn a_reviewer_approves_the_demo_run_and_reads_its_certificate(pool: Sqlite
     assert!(queue.contains("href=\"/runs/1\""), "{queue}");
     let run = browser.get("/runs/1").await.text();
     assert!(run.contains("Approve and issue the certificate"));
+    // The reviewer sees the equipment as it stood on the run date.
+    assert!(run.contains("Equipment on the run date"), "{run}");
+    assert!(run.contains("LTM-SPRT-01") && run.contains("LTM-BATH-07"));
+    assert_eq!(run.matches("usable on 2026-11-18").count(), 4, "{run}");
     let csrf = hidden(&run, "csrf");
     let version = hidden(&run, "version");
     let approved = browser
@@ -682,4 +686,23 @@ async fn certificates_are_found_in_the_register_and_can_be_checked_by_anyone(poo
         stranger.get("/certificates").await.status,
         StatusCode::SEE_OTHER
     );
+}
+
+#[sqlx::test]
+async fn the_reviewer_sees_equipment_taken_out_of_service_after_the_run(pool: SqlitePool) {
+    let mut browser = signed_in(pool.clone(), "demo-reviewer").await;
+    let mut conn = pool.acquire().await.expect("conn");
+    let bath = juncture::store::equipment::by_asset_id(&mut conn, "LTM-BATH-07")
+        .await
+        .expect("query")
+        .expect("bath");
+    juncture::store::equipment::set_status(&mut conn, bath.id, "out_of_service", "heater fault")
+        .await
+        .expect("status");
+    let run = browser.get("/runs/1").await.text();
+    assert!(
+        run.contains("LTM-BATH-07 is out of service (heater fault)"),
+        "{run}"
+    );
+    assert_eq!(run.matches("usable on 2026-11-18").count(), 3);
 }

@@ -577,6 +577,18 @@ struct RunPage {
     reviewable: bool,
     /// The run's certificate, once issued.
     certificate: Option<String>,
+    /// Equipment used and its state on the run date.
+    equipment_rows: Vec<EquipmentRow>,
+}
+
+/// One equipment item of a run as it stood on the run date.
+#[derive(Debug)]
+struct EquipmentRow {
+    role: &'static str,
+    asset: String,
+    record: String,
+    state: String,
+    usable: bool,
 }
 
 impl RunPage {
@@ -771,6 +783,62 @@ async fn run_render(
         facts.push(("Returned because", reason.clone()));
     }
 
+    // The equipment as it stood on the run date (what the reviewer checks).
+    let mut equipment_rows = Vec::new();
+    for (role, item_id) in [
+        ("reference standard", Some(run.reference_id)),
+        ("reference readout", run.reference_readout_id),
+        ("readout of the item", run.uut_readout_id),
+        ("medium", run.medium_id),
+    ] {
+        let Some(item_id) = item_id else { continue };
+        let Some(item) = equipment::by_id(&mut conn, item_id)
+            .await
+            .map_err(AppError::from)?
+        else {
+            continue;
+        };
+        let record = if role == "medium" {
+            equipment::characterisation_on(&mut conn, item.id, &run.performed_on)
+                .await
+                .map_err(AppError::from)?
+                .first()
+                .map_or_else(
+                    || "no characterisation".to_owned(),
+                    |c| format!("characterised on {}", c.characterised_on),
+                )
+        } else {
+            equipment::certificate_on(&mut conn, item.id, &run.performed_on)
+                .await
+                .map_err(AppError::from)?
+                .map_or_else(
+                    || "no certificate".to_owned(),
+                    |c| {
+                        format!(
+                            "certificate {} of {}, due {}",
+                            c.number, c.calibrated_on, c.due_on
+                        )
+                    },
+                )
+        };
+        let problem = run_ops::unusable_reason(&mut conn, &item, &run.performed_on)
+            .await
+            .map_err(PageError)?;
+        equipment_rows.push(EquipmentRow {
+            role,
+            asset: if item.description.is_empty() {
+                item.asset_id.clone()
+            } else {
+                format!("{} ({})", item.asset_id, item.description)
+            },
+            record,
+            state: problem
+                .clone()
+                .unwrap_or_else(|| format!("usable on {}", run.performed_on)),
+            usable: problem.is_none(),
+        });
+    }
+
     // Results (a failure is shown, not fatal).
     let (computed, results_error) = match results::prepare(&mut conn, &run).await {
         Ok(prepared) => {
@@ -849,6 +917,7 @@ async fn run_render(
     let page = RunPage {
         reviewable,
         certificate,
+        equipment_rows,
         nav: Nav::of(Some(user)),
         csrf: user.csrf.clone(),
         run_id: id,
