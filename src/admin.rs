@@ -5,7 +5,7 @@ use std::io::BufRead;
 
 use clap::Subcommand;
 use juncture::store::accounts::{self, Role, Scope};
-use juncture::store::{self, audit};
+use juncture::store::{self, audit, sessions};
 use juncture::web::auth;
 use sqlx::SqlitePool;
 
@@ -26,6 +26,18 @@ pub enum UserAction {
         /// technician, reviewer or administrator.
         #[arg(long)]
         role: String,
+    },
+    /// End every browser session of a user (they must sign in again).
+    EndSessions {
+        /// Sign-in name.
+        #[arg(long)]
+        username: String,
+    },
+    /// Stop a user from signing in or using tokens, and end their sessions.
+    Deactivate {
+        /// Sign-in name.
+        #[arg(long)]
+        username: String,
     },
 }
 
@@ -116,6 +128,67 @@ pub async fn user(pool: &SqlitePool, action: UserAction) -> Result<(), String> {
             .map_err(err)?;
             tx.commit().await.map_err(err)?;
             println!("added {} ({}) as {}", username, display_name, role.as_str());
+            Ok(())
+        }
+        UserAction::EndSessions { username } => {
+            let mut tx = store::begin_write(pool).await.map_err(err)?;
+            let user = accounts::user_by_username(&mut tx, &username)
+                .await
+                .map_err(err)?
+                .ok_or_else(|| format!("there is no user named {username:?}"))?;
+            let ended = sessions::delete_for_user(&mut tx, user.id)
+                .await
+                .map_err(err)?;
+            let after = serde_json::json!({"username": username, "sessions_ended": ended});
+            audit::append(
+                &mut tx,
+                &audit::NewEvent {
+                    actor: CLI_ACTOR,
+                    action: "end_sessions",
+                    entity: "user",
+                    entity_id: &user.id.to_string(),
+                    before: None,
+                    after: Some(&after),
+                },
+            )
+            .await
+            .map_err(err)?;
+            tx.commit().await.map_err(err)?;
+            println!("ended {ended} session(s) of {username}");
+            Ok(())
+        }
+        UserAction::Deactivate { username } => {
+            let mut tx = store::begin_write(pool).await.map_err(err)?;
+            let user = accounts::user_by_username(&mut tx, &username)
+                .await
+                .map_err(err)?
+                .ok_or_else(|| format!("there is no user named {username:?}"))?;
+            accounts::set_active(&mut tx, user.id, false)
+                .await
+                .map_err(err)?;
+            let ended = sessions::delete_for_user(&mut tx, user.id)
+                .await
+                .map_err(err)?;
+            let before = serde_json::json!({"username": username, "active": user.active});
+            let after =
+                serde_json::json!({"username": username, "active": false, "sessions_ended": ended});
+            audit::append(
+                &mut tx,
+                &audit::NewEvent {
+                    actor: CLI_ACTOR,
+                    action: "deactivate",
+                    entity: "user",
+                    entity_id: &user.id.to_string(),
+                    before: Some(&before),
+                    after: Some(&after),
+                },
+            )
+            .await
+            .map_err(err)?;
+            tx.commit().await.map_err(err)?;
+            println!(
+                "deactivated {username}; ended {ended} session(s); their tokens no longer work"
+            );
             Ok(())
         }
     }
@@ -217,4 +290,62 @@ pub async fn audit_cmd(pool: &SqlitePool, action: AuditAction) -> Result<(), Str
             }
         }
     }
+}
+
+/// Runs `juncture backup TARGET`: copies the database at `source` into
+/// `target` with one consistent snapshot, then opens the copy and checks
+/// `PRAGMA integrity_check` and the audit chain.
+///
+/// # Errors
+/// A sentence for the person at the shell.
+pub async fn backup(source: &std::path::Path, target: &std::path::Path) -> Result<(), String> {
+    if !source.is_file() {
+        return Err(format!(
+            "there is no database at {}; give --database",
+            source.display()
+        ));
+    }
+    if target.exists() {
+        return Err(format!(
+            "{} already exists; a backup never overwrites a file",
+            target.display()
+        ));
+    }
+    let target_text = target
+        .to_str()
+        .ok_or_else(|| format!("{} is not a UTF-8 path", target.display()))?;
+    let pool = store::connect(source).await.map_err(err)?;
+    let mut conn = pool.acquire().await.map_err(err)?;
+    store::backup_into(&mut conn, target_text)
+        .await
+        .map_err(|e| format!("cannot write the backup to {}: {e}", target.display()))?;
+    drop(conn);
+    pool.close().await;
+
+    let copy = store::connect(target).await.map_err(err)?;
+    let mut conn = copy.acquire().await.map_err(err)?;
+    let integrity = store::integrity_check(&mut conn).await.map_err(err)?;
+    if integrity != ["ok"] {
+        return Err(format!(
+            "the backup at {} fails its integrity check: {}",
+            target.display(),
+            integrity.join("; ")
+        ));
+    }
+    let events = match audit::verify(&mut conn).await.map_err(err)? {
+        audit::Verification::Intact { events } => events,
+        audit::Verification::Broken { seq, reason } => {
+            return Err(format!(
+                "the backup's audit chain is broken at event {seq}: {reason}"
+            ));
+        }
+    };
+    drop(conn);
+    copy.close().await;
+    let bytes = std::fs::metadata(target).map(|m| m.len()).unwrap_or(0);
+    println!(
+        "backup written to {} ({bytes} bytes); integrity ok; audit chain intact ({events} events)",
+        target.display()
+    );
+    Ok(())
 }

@@ -88,6 +88,14 @@ enum Command {
         #[command(subcommand)]
         action: admin::AuditAction,
     },
+    /// Write a consistent copy of the database (safe while the service runs),
+    /// then check the copy's integrity and audit chain.
+    Backup {
+        #[command(flatten)]
+        db: DatabaseArg,
+        /// The file to write; it must not exist yet.
+        target: PathBuf,
+    },
     /// Show or change the laboratory's identity and settings.
     Lab {
         #[command(subcommand)]
@@ -217,6 +225,7 @@ async fn run(cli: Cli) -> Result<(), String> {
             pool.close().await;
             result
         }
+        Command::Backup { db, target } => admin::backup(&db.database, &target).await,
         Command::Lab { action } => lab(action).await,
     }
 }

@@ -254,3 +254,15 @@ pub async fn user_by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Op
     .await?;
     row.map(User::try_from).transpose()
 }
+
+/// Activates or deactivates a user (a deactivated user cannot sign in and
+/// their sessions and tokens stop working).
+///
+/// # Errors
+/// Any database error.
+pub async fn set_active(conn: &mut SqliteConnection, id: i64, active: bool) -> sqlx::Result<()> {
+    sqlx::query!("UPDATE app_user SET active = ? WHERE id = ?", active, id)
+        .execute(conn)
+        .await?;
+    Ok(())
+}

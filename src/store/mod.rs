@@ -182,3 +182,27 @@ pub fn now_timestamp() -> String {
     now.format(&format)
         .unwrap_or_else(|_| now.unix_timestamp().to_string())
 }
+
+/// Writes a consistent copy of the whole database to `target` with SQLite's
+/// `VACUUM INTO`: a single read transaction, so the copy is a snapshot even
+/// while the service keeps writing. The target file must not exist.
+///
+/// # Errors
+/// Any database error (an existing target is refused by SQLite).
+pub async fn backup_into(conn: &mut sqlx::SqliteConnection, target: &str) -> sqlx::Result<()> {
+    sqlx::query("VACUUM INTO ?")
+        .bind(target)
+        .execute(conn)
+        .await?;
+    Ok(())
+}
+
+/// The lines of `PRAGMA integrity_check`: exactly `["ok"]` for a sound file.
+///
+/// # Errors
+/// Any database error.
+pub async fn integrity_check(conn: &mut sqlx::SqliteConnection) -> sqlx::Result<Vec<String>> {
+    sqlx::query_scalar::<_, String>("PRAGMA integrity_check")
+        .fetch_all(conn)
+        .await
+}

@@ -80,3 +80,73 @@ pub async fn delete(conn: &mut SqliteConnection, id_hash: &str) -> sqlx::Result<
         .await?;
     Ok(())
 }
+
+/// Ends every session of a user; returns how many there were.
+///
+/// # Errors
+/// Any database error.
+pub async fn delete_for_user(conn: &mut SqliteConnection, user_id: i64) -> sqlx::Result<u64> {
+    let done = sqlx::query!("DELETE FROM web_session WHERE user_id = ?", user_id)
+        .execute(conn)
+        .await?;
+    Ok(done.rows_affected())
+}
+
+/// Records a failed sign-in for `username` at `at` (ISO 8601 UTC) and
+/// forgets failures older than `forget_before`.
+///
+/// # Errors
+/// Any database error.
+pub async fn record_failure(
+    conn: &mut SqliteConnection,
+    username: &str,
+    at: &str,
+    forget_before: &str,
+) -> sqlx::Result<()> {
+    sqlx::query!(
+        "DELETE FROM sign_in_failure WHERE failed_at < ?",
+        forget_before
+    )
+    .execute(&mut *conn)
+    .await?;
+    sqlx::query!(
+        "INSERT INTO sign_in_failure (username, failed_at) VALUES (?, ?)",
+        username,
+        at
+    )
+    .execute(conn)
+    .await?;
+    Ok(())
+}
+
+/// Failed sign-ins of `username` at or after `since`: how many, and the
+/// earliest of them.
+///
+/// # Errors
+/// Any database error.
+pub async fn failures_since(
+    conn: &mut SqliteConnection,
+    username: &str,
+    since: &str,
+) -> sqlx::Result<(i64, Option<String>)> {
+    let row = sqlx::query!(
+        r#"SELECT COUNT(*) AS "count!: i64", MIN(failed_at) AS "first?: String"
+           FROM sign_in_failure WHERE username = ? AND failed_at >= ?"#,
+        username,
+        since
+    )
+    .fetch_one(conn)
+    .await?;
+    Ok((row.count, row.first))
+}
+
+/// Forgets the failed sign-ins of `username` (after a successful one).
+///
+/// # Errors
+/// Any database error.
+pub async fn clear_failures(conn: &mut SqliteConnection, username: &str) -> sqlx::Result<()> {
+    sqlx::query!("DELETE FROM sign_in_failure WHERE username = ?", username)
+        .execute(conn)
+        .await?;
+    Ok(())
+}

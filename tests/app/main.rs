@@ -12,4 +12,5 @@ mod records;
 mod reference;
 mod register;
 mod results;
+mod security;
 mod smoke;

@@ -27,6 +27,20 @@ struct SignInPage {
     error: Option<String>,
 }
 
+/// Failed sign-ins allowed for one user name within
+/// [`THROTTLE_WINDOW_MINUTES`] before further attempts are refused.
+pub const MAX_FAILED_SIGN_INS: i64 = 5;
+/// Length of the throttling window, minutes.
+pub const THROTTLE_WINDOW_MINUTES: i64 = 15;
+
+const STAMP: &[time::format_description::BorrowedFormatItem<'static>] =
+    time::macros::format_description!("[year]-[month]-[day]T[hour]:[minute]:[second]Z");
+
+fn utc_stamp(t: time::OffsetDateTime) -> String {
+    t.format(STAMP)
+        .unwrap_or_else(|_| t.unix_timestamp().to_string())
+}
+
 /// Only local paths may be a redirect target after signing in.
 fn safe_next(next: Option<&String>) -> String {
     match next {
@@ -91,12 +105,53 @@ pub async fn sign_in(
         );
     }
     let mut conn = state.db.acquire().await.map_err(AppError::from)?;
+    // Throttling by user name (any spelling of its case): after
+    // MAX_FAILED_SIGN_INS failures within the window, no password is even
+    // checked until the oldest of them leaves the window.
+    let key = username.to_lowercase();
+    let now = time::OffsetDateTime::now_utc();
+    let window = time::Duration::minutes(THROTTLE_WINDOW_MINUTES);
+    let (failures, first) = sessions::failures_since(&mut conn, &key, &utc_stamp(now - window))
+        .await
+        .map_err(AppError::from)?;
+    if failures >= MAX_FAILED_SIGN_INS {
+        let until = first
+            .and_then(|f| {
+                time::PrimitiveDateTime::parse(&f, STAMP)
+                    .ok()
+                    .map(|t| t.assume_utc() + window)
+            })
+            .unwrap_or(now + window);
+        tracing::warn!(username = %key, failures, "sign-in refused: too many recent failures");
+        return render_sign_in(
+            &headers,
+            next,
+            username,
+            Some(format!(
+                "Too many failed sign-ins for this user name ({failures} in the last {THROTTLE_WINDOW_MINUTES} minutes). Try again after {:02}:{:02} UTC, or ask an administrator.",
+                until.hour(),
+                until.minute()
+            )),
+        );
+    }
     let user = accounts::user_by_username(&mut conn, &username)
         .await
         .map_err(AppError::from)?;
+    // Argon2id takes tens of milliseconds: keep it off the async workers.
+    let candidate = user.clone();
+    let given = password.to_owned();
+    let verified = tokio::task::spawn_blocking(move || {
+        candidate.is_some_and(|u| u.active && verify_password(&given, &u.password_hash))
+    })
+    .await
+    .map_err(|e| AppError::Internal(format!("password check failed: {e}")))?;
     let user = match user {
-        Some(u) if u.active && verify_password(password, &u.password_hash) => u,
+        Some(u) if verified => u,
         _ => {
+            sessions::record_failure(&mut conn, &key, &utc_stamp(now), &utc_stamp(now - window))
+                .await
+                .map_err(AppError::from)?;
+            tracing::info!(username = %key, "sign-in failed");
             return render_sign_in(
                 &headers,
                 next,
@@ -105,6 +160,9 @@ pub async fn sign_in(
             );
         }
     };
+    sessions::clear_failures(&mut conn, &key)
+        .await
+        .map_err(AppError::from)?;
     let secret = random_token();
     let expires = time::OffsetDateTime::now_utc() + time::Duration::hours(SESSION_HOURS);
     let expires = expires
