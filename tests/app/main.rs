@@ -2,6 +2,7 @@
 //! SQLite file per test (`#[sqlx::test]`), and smoke tests that start the
 //! real binary and talk to it over HTTP.
 
+mod access;
 mod accounts;
 mod certificates;
 mod compute;

@@ -706,3 +706,100 @@ async fn the_reviewer_sees_equipment_taken_out_of_service_after_the_run(pool: Sq
     );
     assert_eq!(run.matches("usable on 2026-11-18").count(), 3);
 }
+
+#[sqlx::test]
+async fn every_page_needs_a_session_and_forms_follow_the_roles(pool: SqlitePool) {
+    let protected = [
+        "/work",
+        "/runs/new",
+        "/runs/1",
+        "/review",
+        "/certificates",
+        "/impact",
+        "/instruments/CVW-PT-1187",
+    ];
+    let public = ["/", "/convert", "/sign-in", "/verify"];
+    let tech = signed_in(pool.clone(), "demo-tech").await;
+    let mut anonymous = Browser {
+        app: tech.app.clone(),
+        cookies: Vec::new(),
+    };
+    for path in protected {
+        let answer = anonymous.get(path).await;
+        assert_eq!(answer.status, StatusCode::SEE_OTHER, "{path}");
+        assert!(location(&answer).starts_with("/sign-in"), "{path}");
+    }
+    for path in public {
+        assert_eq!(anonymous.get(path).await.status, StatusCode::OK, "{path}");
+    }
+    let mut users = vec![tech];
+    for name in ["demo-reviewer", "demo-admin"] {
+        let mut b = Browser {
+            app: users[0].app.clone(),
+            cookies: Vec::new(),
+        };
+        let page = b.get("/sign-in").await;
+        let csrf = hidden(&page.text(), "csrf");
+        let done = b
+            .post_form(
+                "/sign-in",
+                &[
+                    ("csrf", &csrf),
+                    ("username", name),
+                    ("password", "juncture-demo"),
+                    ("next", "/work"),
+                ],
+            )
+            .await;
+        assert_eq!(done.status, StatusCode::SEE_OTHER);
+        users.push(b);
+    }
+    for user in &mut users {
+        for path in protected {
+            assert_eq!(user.get(path).await.status, StatusCode::OK, "{path}");
+        }
+    }
+    // A form posted without a session goes to the sign-in page and changes nothing.
+    let refused = anonymous
+        .post_form("/runs/1/approve", &[("csrf", "x"), ("version", "1")])
+        .await;
+    assert_eq!(refused.status, StatusCode::SEE_OTHER);
+    assert!(location(&refused).starts_with("/sign-in"));
+    // A technician may not approve; a reviewer may not enter readings.
+    let (tech, reviewer) = {
+        let (a, b) = users.split_at_mut(1);
+        (&mut a[0], &mut b[0])
+    };
+    let run = tech.get("/runs/1").await.text();
+    let csrf = hidden(&run, "csrf");
+    let no = tech
+        .post_form("/runs/1/approve", &[("csrf", &csrf), ("version", "1")])
+        .await;
+    assert_eq!(no.status, StatusCode::FORBIDDEN, "{}", no.text());
+    assert!(
+        no.text()
+            .contains("approving runs is for reviewer or administrator")
+    );
+    let run2 = reviewer.get("/runs/2").await.text();
+    let csrf = hidden(&run2, "csrf");
+    let no = reviewer
+        .post_form(
+            "/runs/2/set-points",
+            &[("csrf", &csrf), ("version", "1"), ("nominal_t_c", "700")],
+        )
+        .await;
+    assert_eq!(no.status, StatusCode::FORBIDDEN, "{}", no.text());
+    let certificates: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM certificate")
+        .fetch_one(&pool)
+        .await
+        .expect("count");
+    assert_eq!(certificates, 0);
+    let set_points: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM set_point WHERE run_id = 2")
+        .fetch_one(&pool)
+        .await
+        .expect("count");
+    assert_eq!(
+        set_points, 4,
+        "the demo's type N run keeps its four set points"
+    );
+}
