@@ -510,3 +510,24 @@ pub async fn prepare(conn: &mut SqliteConnection, run: &Run) -> Result<Prepared,
         },
     })
 }
+
+/// The temperature range (°C) over which a sensor kind's reference function
+/// is defined, if it has one: thermocouples by their letter type (NIST
+/// Monograph 175 / IEC 60584-1), industrial PRTs over IEC 60751's range,
+/// SPRTs from the triple point of equilibrium hydrogen to the freezing point
+/// of silver (ITS-90). Indicating thermometers and switches have none.
+#[must_use]
+pub fn defined_range(kind: &str, tc_type: Option<&str>) -> Option<(f64, f64)> {
+    use crate::metrology::thermo::{ThermocoupleType, prt};
+    match kind {
+        "thermocouple" | "reference_thermocouple" => tc_type
+            .and_then(|t| t.parse::<ThermocoupleType>().ok())
+            .map(ThermocoupleType::temperature_range),
+        "prt" | "reference_prt" => Some((prt::IEC_T_MIN_C, prt::IEC_T_MAX_C)),
+        "sprt" | "reference_sprt" => Some((
+            crate::metrology::thermo::its90::E_H2_TRIPLE_POINT_K - 273.15,
+            961.78,
+        )),
+        _ => None,
+    }
+}

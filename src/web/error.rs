@@ -54,6 +54,9 @@ pub enum AppError {
     /// The request conflicts with the current state (e.g. a stale edit).
     #[error("{0}")]
     Conflict(String),
+    /// The body is not sent as the media type the endpoint reads.
+    #[error("{0}")]
+    UnsupportedMediaType(String),
     /// The body exceeds the configured limit.
     #[error("the request body is larger than the limit of {limit_bytes} bytes")]
     PayloadTooLarge {
@@ -94,6 +97,7 @@ impl AppError {
             Self::Conflict(_) => StatusCode::CONFLICT,
             Self::Forbidden(_) => StatusCode::FORBIDDEN,
             Self::PayloadTooLarge { .. } => StatusCode::PAYLOAD_TOO_LARGE,
+            Self::UnsupportedMediaType(_) => StatusCode::UNSUPPORTED_MEDIA_TYPE,
             Self::Unavailable(_) => StatusCode::SERVICE_UNAVAILABLE,
             Self::Db(_) | Self::Render(_) | Self::Internal(_) => StatusCode::INTERNAL_SERVER_ERROR,
         }
@@ -109,6 +113,7 @@ impl AppError {
             Self::Conflict(_) => "conflict",
             Self::Forbidden(_) => "forbidden",
             Self::PayloadTooLarge { .. } => "payload-too-large",
+            Self::UnsupportedMediaType(_) => "unsupported-media-type",
             Self::Unavailable(_) => "unavailable",
             Self::Db(_) | Self::Render(_) | Self::Internal(_) => "server-error",
         }
@@ -165,6 +170,7 @@ pub fn title_for(slug: &str) -> &'static str {
         "conflict" => "Conflict with the current state",
         "forbidden" => "Not allowed",
         "payload-too-large" => "Request body too large",
+        "unsupported-media-type" => "Unsupported media type",
         "unavailable" => "Service unavailable",
         "timeout" => "Request timed out",
         _ => "Server error",

@@ -170,7 +170,7 @@ async fn bad_fit_requests_name_the_field(pool: SqlitePool) {
         let message = problem["errors"][0]["message"].as_str().expect("message");
         assert!(message.contains(needle), "{message}");
     }
-    // Malformed JSON and unknown fields are 400 with the parser's words.
+    // Malformed JSON is 400 with the parser's words.
     let answer = send(
         &app,
         Request::post("/api/v1/compute/fit")
@@ -187,7 +187,9 @@ async fn bad_fit_requests_name_the_field(pool: SqlitePool) {
         &json!({"x": [1.0], "y": [1.0], "degree": 0, "colour": "red"}),
     )
     .await;
-    assert_eq!(answer.status, StatusCode::BAD_REQUEST);
+    // An unknown field is well-formed JSON of the wrong shape: 422 naming it.
+    assert_eq!(answer.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(answer.json()["errors"][0]["field"], "colour");
     assert!(
         answer.json()["detail"]
             .as_str()
@@ -202,7 +204,7 @@ async fn bad_fit_requests_name_the_field(pool: SqlitePool) {
             .expect("request"),
     )
     .await;
-    assert_eq!(answer.status, StatusCode::BAD_REQUEST);
+    assert_eq!(answer.status, StatusCode::UNSUPPORTED_MEDIA_TYPE);
     assert!(
         answer.json()["detail"]
             .as_str()

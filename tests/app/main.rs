@@ -8,6 +8,7 @@ mod certificates;
 mod compute;
 mod foundation;
 mod helpers;
+mod hostile;
 mod pages;
 mod records;
 mod reference;

@@ -803,3 +803,49 @@ async fn every_page_needs_a_session_and_forms_follow_the_roles(pool: SqlitePool)
         "the demo's type N run keeps its four set points"
     );
 }
+
+#[sqlx::test]
+async fn markup_in_any_text_field_is_shown_as_text(pool: SqlitePool) {
+    let mut browser = signed_in(pool.clone(), "demo-tech").await;
+    let token = crate::records::token_for(
+        &pool,
+        "demo-admin",
+        juncture::store::accounts::Role::Administrator,
+        juncture::store::accounts::Scope::Write,
+    )
+    .await;
+    let customer = crate::records::call(
+        &browser.app,
+        "POST",
+        "/api/v1/customers",
+        Some(&token),
+        Some(serde_json::json!({"name": "<script>alert('c')</script> (invented)"})),
+    )
+    .await
+    .json();
+    let made = crate::records::call(
+        &browser.app,
+        "POST",
+        "/api/v1/instruments",
+        Some(&token),
+        Some(
+            serde_json::json!({"serial": "<b>SN-1</b>", "kind": "indicating",
+            "description": "<img src=x onerror=alert(1)>", "customer_id": customer["id"]}),
+        ),
+    )
+    .await;
+    assert_eq!(made.status, StatusCode::CREATED, "{}", made.text());
+    let page = browser.get("/runs/new").await.text();
+    assert!(
+        page.contains("&lt;b&gt;SN-1&lt;/b&gt;") || page.contains("&#60;b&#62;SN-1"),
+        "{page}"
+    );
+    assert!(!page.contains("<b>SN-1</b>"));
+    assert!(!page.contains("<img src=x"));
+    let history = browser
+        .get("/instruments/%3Cb%3ESN-1%3C%2Fb%3E")
+        .await
+        .text();
+    assert!(!history.contains("<b>SN-1</b>"), "{history}");
+    assert!(history.contains("SN-1"));
+}

@@ -6,7 +6,7 @@ use axum::extract::{Path, State};
 use axum::http::StatusCode;
 use serde::{Deserialize, Serialize};
 
-use super::records::{ApiResult, Problems, record, unique};
+use super::records::{ApiResult, MAX_NAME_CHARS, MAX_TEXT_CHARS, Problems, record, unique};
 use crate::domain::coefficients::{CertificateCoefficients, forms_for};
 use crate::store::accounts::Role;
 use crate::store::equipment::{
@@ -84,6 +84,16 @@ impl EquipmentBody {
     fn validate(self) -> Result<EquipmentFields, AppError> {
         let mut p = Problems::default();
         p.text("asset_id", &self.asset_id);
+        p.screen("description", &self.description, MAX_TEXT_CHARS, true);
+        for (field, value) in [
+            ("manufacturer", &self.manufacturer),
+            ("model", &self.model),
+            ("serial", &self.serial),
+            ("firmware", &self.firmware),
+            ("location", &self.location),
+        ] {
+            p.screen(field, value, MAX_NAME_CHARS, false);
+        }
         let kind = p.kind(&self.kind, EQUIPMENT_KINDS);
         let tc_type = p.tc_type(
             self.tc_type.as_deref(),

@@ -88,6 +88,11 @@ pub async fn record(
     Ok(())
 }
 
+/// Longest name, serial, number or other one-line text accepted.
+pub const MAX_NAME_CHARS: usize = 200;
+/// Longest free text (addresses, descriptions, reasons) accepted.
+pub const MAX_TEXT_CHARS: usize = 2000;
+
 /// Collects field errors and turns them into one 422.
 #[derive(Debug, Default)]
 pub struct Problems(pub Vec<FieldError>);
@@ -97,10 +102,45 @@ impl Problems {
     pub fn add(&mut self, field: &str, message: impl Into<String>) {
         self.0.push(FieldError::new(field, message));
     }
-    /// Requires a non-blank text.
+    /// Requires a non-blank, single-line text of at most [`MAX_NAME_CHARS`]
+    /// characters without control characters.
     pub fn text(&mut self, field: &str, value: &str) {
         if value.trim().is_empty() {
             self.add(field, "must not be empty");
+        } else {
+            self.screen(field, value, MAX_NAME_CHARS, false);
+        }
+    }
+
+    /// Checks an optional text: at most `max` characters, no control
+    /// characters (line breaks and tabs allowed when `multiline`).
+    pub fn screen(&mut self, field: &str, value: &str, max: usize, multiline: bool) {
+        let count = value.chars().count();
+        if count > max {
+            self.add(
+                field,
+                format!("is {count} characters long; at most {max} are allowed"),
+            );
+            return;
+        }
+        if let Some((i, c)) = value
+            .chars()
+            .enumerate()
+            .find(|(_, c)| c.is_control() && !(multiline && matches!(c, '\n' | '\r' | '\t')))
+        {
+            self.add(
+                field,
+                format!(
+                    "contains the control character U+{:04X} at character {}; {}",
+                    u32::from(c),
+                    i + 1,
+                    if multiline {
+                        "only line breaks and tabs are allowed"
+                    } else {
+                        "write it on one line without control characters"
+                    }
+                ),
+            );
         }
     }
     /// Checks a kind against the accepted ones (`allowed`, comma separated);
@@ -191,6 +231,9 @@ impl CustomerBody {
     fn validate(self) -> Result<CustomerFields, AppError> {
         let mut p = Problems::default();
         p.text("name", &self.name);
+        p.screen("address", &self.address, MAX_TEXT_CHARS, true);
+        p.screen("contact_email", &self.contact_email, MAX_NAME_CHARS, false);
+        p.screen("contact_phone", &self.contact_phone, MAX_NAME_CHARS, false);
         if !self.contact_email.is_empty() && !self.contact_email.contains('@') {
             p.add("contact_email", "is not an e-mail address (no @)");
         }
@@ -329,6 +372,9 @@ impl InstrumentBody {
     pub fn validate(self) -> Result<InstrumentFields, AppError> {
         let mut p = Problems::default();
         p.text("serial", &self.serial);
+        p.screen("description", &self.description, MAX_TEXT_CHARS, true);
+        p.screen("manufacturer", &self.manufacturer, MAX_NAME_CHARS, false);
+        p.screen("model", &self.model, MAX_NAME_CHARS, false);
         let kind = p.kind(&self.kind, INSTRUMENT_KINDS);
         let tc_type = p.tc_type(
             self.tc_type.as_deref(),

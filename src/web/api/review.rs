@@ -208,6 +208,9 @@ pub async fn return_run(
     if reason.trim().is_empty() {
         return Err(AppError::invalid("reason", "say what the technician must change").into());
     }
+    let mut p = super::records::Problems::default();
+    p.screen("reason", reason, super::records::MAX_TEXT_CHARS, true);
+    p.finish()?;
     let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;
     if run.status != "submitted" {
@@ -610,6 +613,9 @@ pub async fn amend_certificate(
         )
         .into());
     }
+    let mut p = super::records::Problems::default();
+    p.screen("reason", reason, super::records::MAX_TEXT_CHARS, true);
+    p.finish()?;
     let mut tx = store::begin_write(db).await?;
     let old = certificates::by_number(&mut tx, number, None)
         .await?

@@ -8,7 +8,7 @@ use axum::http::{HeaderMap, StatusCode, header};
 use serde::{Deserialize, Serialize};
 
 use super::equipment::check_date;
-use super::records::{ApiResult, Problems, record};
+use super::records::{ApiResult, MAX_NAME_CHARS, Problems, record};
 use crate::domain::readings;
 use crate::metrology::thermo::ThermocoupleType;
 use crate::store::accounts::Role;
@@ -163,6 +163,7 @@ async fn resolve(conn: &mut sqlx::SqliteConnection, body: RunBody) -> Result<Res
     let mut p = Problems::default();
     check_date(&mut p, "performed_on", &body.performed_on);
     p.text("procedure_ref", &body.procedure_ref);
+    p.screen("location", &body.location, MAX_NAME_CHARS, false);
     let instrument = records::instrument_by_serial(conn, &body.instrument_serial).await?;
     if instrument.is_none() {
         p.add(
@@ -488,6 +489,39 @@ pub async fn add_set_point_to(
     let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;
     editable(&run, caller, body.version)?;
+    // The set point must lie where the unit's and the reference's
+    // reference functions are defined.
+    let instrument = records::instrument_by_id(&mut tx, run.instrument_id)
+        .await?
+        .ok_or_else(|| AppError::Internal("instrument vanished".to_owned()))?;
+    let reference = equipment::by_id(&mut tx, run.reference_id)
+        .await?
+        .ok_or_else(|| AppError::Internal("reference vanished".to_owned()))?;
+    for (who, kind, tc_type) in [
+        (
+            format!("{} ({})", instrument.serial, instrument.kind),
+            instrument.kind.as_str(),
+            instrument.tc_type.as_deref(),
+        ),
+        (
+            format!("the reference {}", reference.asset_id),
+            reference.kind.as_str(),
+            reference.tc_type.as_deref(),
+        ),
+    ] {
+        if let Some((lo, hi)) = crate::domain::results::defined_range(kind, tc_type)
+            && !(lo..=hi).contains(&body.nominal_t_c)
+        {
+            return Err(AppError::invalid(
+                "nominal_t_c",
+                format!(
+                    "{} °C is outside the range of {who}, {lo} °C to {hi} °C",
+                    body.nominal_t_c
+                ),
+            )
+            .into());
+        }
+    }
     let sp = runs::add_set_point(&mut tx, id, body.nominal_t_c)
         .await
         .map_err(|e| match e.as_database_error() {
@@ -681,11 +715,7 @@ pub async fn add_readings(
         .unwrap_or("")
         .to_ascii_lowercase();
     let (version, readings) = if content_type.starts_with("application/json") {
-        let parsed: ReadingsBody = serde_json::from_slice(&body).map_err(|e| {
-            AppError::BadRequest(format!(
-                "the request body is not valid JSON for this endpoint: {e}"
-            ))
-        })?;
+        let parsed: ReadingsBody = crate::web::extract::json_from_slice(&body)?;
         let readings = parsed
             .readings
             .into_iter()
@@ -732,6 +762,17 @@ pub async fn add_readings_to(
     caller.may_change(RUN_ROLES, "entering readings")?;
     if readings.is_empty() {
         return Err(AppError::invalid("readings", "no readings given").into());
+    }
+    let most = crate::domain::readings::MAX_READINGS;
+    if readings.len() > most {
+        return Err(AppError::invalid(
+            "readings",
+            format!(
+                "{} readings in one request; at most {most} are accepted (send them in parts)",
+                readings.len()
+            ),
+        )
+        .into());
     }
     let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;

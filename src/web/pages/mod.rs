@@ -170,6 +170,10 @@ const PROBLEM_TYPES: &[(&str, &str)] = &[
         "The request conflicts with the current state of the record, for example an edit based on an outdated copy.",
     ),
     (
+        "unsupported-media-type",
+        "The request body was not sent as the type the endpoint reads; JSON endpoints need `Content-Type: application/json`.",
+    ),
+    (
         "payload-too-large",
         "The request body is larger than the service accepts. The detail states the limit.",
     ),
