@@ -986,3 +986,572 @@ impl MediumCharacterisation {
         is_overdue(&self.date.to_string(), interval_months, today)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    //! Invented data of the invented laboratory "Larchmere Thermal Metrology": the Peltier
+    //! dry-block LTM-DRY-09 characterised at -20 °C, 60 °C and 140 °C, the stirred oil bath
+    //! LTM-BATH-07 and the tube furnace LTM-FURN-08. Expected values: hand calculations beside
+    //! the checks and the output of `python3 tests/data/switch_media_expected.py` (numpy 2.4.6,
+    //! scipy 1.17.1), pasted unchanged.
+
+    use super::*;
+
+    /// Absolute tolerance for arithmetic on °C values (differences, quadrature sums,
+    /// interpolation).
+    const TOL_C: f64 = 1e-12;
+
+    fn close(a: f64, b: f64) -> bool {
+        (a - b).abs() <= TOL_C
+    }
+
+    fn depth(height_mm: f64, t_c: f64) -> DepthReading {
+        DepthReading { height_mm, t_c }
+    }
+
+    /// Readings every 300 s from 0 s.
+    fn record(t: &[f64]) -> Vec<StabilityReading> {
+        t.iter()
+            .enumerate()
+            .map(|(i, &t_c)| StabilityReading {
+                time_s: 300.0 * i as f64,
+                t_c,
+            })
+            .collect()
+    }
+
+    fn at_60() -> CharacterisationInput {
+        CharacterisationInput {
+            temperature_c: 60.0,
+            axial: Some(vec![
+                depth(0.0, 60.000),
+                depth(20.0, 59.985),
+                depth(40.0, 59.962),
+            ]),
+            radial: Some(RadialData::BoreReadings(vec![
+                60.004, 60.011, 59.995, 60.008,
+            ])),
+            stability: record(&[60.002, 60.006, 59.998, 60.004, 60.001, 59.997, 60.003]),
+            loading_difference_c: Some(-0.012),
+            reference_uncertainty: Some(ReferenceUncertainty {
+                expanded_c: 0.02,
+                k: 2.0,
+            }),
+        }
+    }
+
+    fn at_minus_20() -> CharacterisationInput {
+        CharacterisationInput {
+            temperature_c: -20.0,
+            axial: Some(vec![
+                depth(40.0, -19.951),
+                depth(0.0, -20.000),
+                depth(20.0, -19.978),
+            ]),
+            radial: Some(RadialData::DifferencesToReferenceBore(vec![
+                0.012, -0.021, 0.007,
+            ])),
+            stability: record(&[
+                -20.004, -19.997, -20.001, -20.006, -19.999, -20.002, -19.998,
+            ]),
+            loading_difference_c: Some(0.025),
+            reference_uncertainty: None,
+        }
+    }
+
+    fn at_140() -> CharacterisationInput {
+        CharacterisationInput {
+            temperature_c: 140.0,
+            axial: Some(vec![
+                depth(0.0, 140.000),
+                depth(20.0, 139.93),
+                depth(40.0, 139.86),
+            ]),
+            radial: None,
+            stability: record(&[
+                140.011, 139.992, 140.004, 139.987, 140.009, 139.996, 140.001,
+            ]),
+            loading_difference_c: None,
+            reference_uncertainty: None,
+        }
+    }
+
+    fn dry_block() -> CharacterisedMedium {
+        characterise_medium(
+            "LTM-DRY-09",
+            "2024-03-14",
+            &[at_60(), at_minus_20(), at_140()],
+        )
+        .unwrap()
+    }
+
+    fn err_of(input: CharacterisationInput) -> String {
+        match characterise_temperature(1, &input) {
+            Ok(_) => String::from("(no error)"),
+            Err(e) => e.to_string(),
+        }
+    }
+
+    #[test]
+    fn half_widths_at_60_c() {
+        let r = characterise_temperature(0, &at_60()).unwrap();
+        // Hand: axial |59.962 − 60.000| = 0.038 (at 40 mm); radial 60.011 − 59.995 = 0.016;
+        // uniformity √(0.038² + 0.016²) = √0.0017 = 0.041231; stability (60.006 − 59.997)/2 =
+        // 0.0045; loading |−0.012| = 0.012. Script: M60_*.
+        let ax = r.axial.as_ref().unwrap();
+        assert!(close(ax.half_width_c, 0.0379999999999967));
+        assert!(close(ax.standard_uncertainty_c, 0.038 / 3f64.sqrt()));
+        assert!(close(
+            r.radial.as_ref().unwrap().half_width_c,
+            0.016000000000005343
+        ));
+        assert!(close(r.uniformity.half_width_c, 0.04123105625617564));
+        assert!(close(
+            r.uniformity.standard_uncertainty_c,
+            0.04123105625617564 / 3f64.sqrt()
+        ));
+        assert!(close(r.stability.half_width_c, 0.0045000000000001705));
+        assert!(close(r.stability_std_dev_c, 0.003207134902949478));
+        assert!(close(r.stability_duration_s, 1800.0));
+        assert!(close(r.loading.as_ref().unwrap().half_width_c, 0.012));
+        // Script: M60_UCOMB = √((0.041231² + 0.0045² + 0.012²)/3).
+        assert!(close(
+            r.combined_standard_uncertainty_c,
+            0.02492823031558078
+        ));
+        assert!(r.warnings.is_empty());
+        assert_eq!(
+            r.axial.as_ref().unwrap().derivation,
+            "Axial: largest difference from the reading at the lowest position (0 mm) among 3 \
+             positions up to 40 mm: 0.038 °C (at 40 mm); half-width a = 0.038 °C, rectangular, \
+             u = a/√3 = 0.0219 °C."
+        );
+        assert_eq!(
+            r.stability.derivation,
+            "Stability: 7 readings over 30 min, spread max − min = 0.009 °C; half-width a = half \
+             the spread = 0.0045 °C, rectangular, u = a/√3 = 0.0026 °C (experimental standard \
+             deviation of the readings 0.0032 °C, for information)."
+        );
+        assert!(
+            r.uniformity
+                .derivation
+                .starts_with("Uniformity: axial and radial half-widths combined in quadrature")
+        );
+        assert_eq!(
+            r.reference_note.as_deref(),
+            Some(
+                "Characterising thermometer: U = 0.02 °C (k = 2). The half-widths are \
+                 differences read with it and do not include its calibration uncertainty."
+            )
+        );
+    }
+
+    #[test]
+    fn half_widths_from_differences_and_axial_only() {
+        let r = characterise_temperature(0, &at_minus_20()).unwrap();
+        // Hand: reference position is the lowest (0 mm, listed second): |−19.951 + 20| =
+        // 0.049; radial max |Δ| = 0.021; uniformity √(0.049² + 0.021²) = 0.053310. Script:
+        // MM20_*.
+        assert!(close(
+            r.axial.as_ref().unwrap().half_width_c,
+            0.04899999999999949
+        ));
+        assert!(close(r.radial.as_ref().unwrap().half_width_c, 0.021));
+        assert!(close(r.uniformity.half_width_c, 0.053310411741046886));
+        assert!(close(r.stability.half_width_c, 0.0045000000000001705));
+        let r = characterise_temperature(2, &at_140()).unwrap();
+        // Hand: axial |139.86 − 140| = 0.14, radial not measured → uniformity = axial;
+        // stability (140.011 − 139.987)/2 = 0.012; no loading: u = √((0.14² + 0.012²)/3).
+        assert!(r.radial.is_none());
+        assert!(close(r.uniformity.half_width_c, 0.13999999999998636));
+        assert!(close(r.stability.half_width_c, 0.012000000000000455));
+        assert!(r.loading.is_none());
+        assert!(close(
+            r.combined_standard_uncertainty_c,
+            0.08112541730759888
+        ));
+        assert!(
+            r.uniformity
+                .derivation
+                .starts_with("Uniformity: axial only (radial not measured)")
+        );
+    }
+
+    #[test]
+    fn interpolation_between_characterised_temperatures() {
+        let m = dry_block().characterisation;
+        assert_eq!(m.range_c(), (-20.0, 140.0));
+        assert_eq!(m.points()[0].temperature_c, -20.0);
+        // Exact at a characterised temperature: the stored value itself.
+        let p60 = m.at(60.0).unwrap();
+        assert_eq!(
+            p60.uniformity_half_width_c,
+            m.points()[1].uniformity_half_width_c
+        );
+        assert_eq!(p60.loading_half_width_c, Some(0.012));
+        assert_eq!(
+            p60.derivation,
+            "LTM-DRY-09 (characterised 2024-03-14): characterised at 60 °C"
+        );
+        // 0 °C is 20/80 = 0.25 of the way from -20 to 60. Hand: uniformity 0.053310 + 0.25 ×
+        // (0.041231 − 0.053310) = 0.050291; loading 0.025 + 0.25 × (0.012 − 0.025) = 0.02175.
+        // Script (numpy.interp): I0_*.
+        let p0 = m.at(0.0).unwrap();
+        assert!(close(p0.uniformity_half_width_c, 0.050290572869829075));
+        assert!(close(p0.stability_half_width_c, 0.0045000000000001705));
+        assert!(close(
+            p0.loading_half_width_c.unwrap(),
+            0.021750000000000002
+        ));
+        assert_eq!(
+            p0.derivation,
+            "LTM-DRY-09 (characterised 2024-03-14): interpolated linearly between -20 °C and \
+             60 °C"
+        );
+        // 100 °C halfway between 60 and 140 (hand: (0.041231 + 0.14)/2 = 0.090616); no loading
+        // at 140 °C, so none at 100 °C. Script: I100_*.
+        let p100 = m.at(100.0).unwrap();
+        assert!(close(p100.uniformity_half_width_c, 0.09061552812808099));
+        assert!(close(p100.stability_half_width_c, 0.008250000000000313));
+        assert_eq!(p100.loading_half_width_c, None);
+        // Ends of the range are exact.
+        assert_eq!(
+            m.at(140.0).unwrap().uniformity_half_width_c,
+            0.13999999999998636
+        );
+        assert_eq!(m.at(-20.0).unwrap().loading_half_width_c, Some(0.025));
+    }
+
+    #[test]
+    fn outside_the_characterised_range_is_refused() {
+        let m = dry_block().characterisation;
+        let e = m.at(150.0).unwrap_err().to_string();
+        assert_eq!(
+            e,
+            "medium half-widths: LTM-DRY-09 is characterised from -20 °C to 140 °C; 150 °C lies \
+             outside and is not extrapolated"
+        );
+        assert!(
+            m.at(-20.5)
+                .unwrap_err()
+                .to_string()
+                .contains("-20.5 °C lies outside")
+        );
+        assert_eq!(
+            m.at(f64::NAN).unwrap_err().to_string(),
+            "temperature asked for: must be a finite number; got NaN"
+        );
+    }
+
+    #[test]
+    fn budget_items_carry_the_interpolated_half_widths() {
+        let m = MediumCharacterisation::new(
+            "LTM-BATH-07",
+            "2024-05-02",
+            vec![
+                MediumPoint {
+                    temperature_c: 50.0,
+                    uniformity_half_width_c: 0.010,
+                    stability_half_width_c: 0.004,
+                    loading_half_width_c: None,
+                },
+                MediumPoint {
+                    temperature_c: 90.0,
+                    uniformity_half_width_c: 0.030,
+                    stability_half_width_c: 0.008,
+                    loading_half_width_c: None,
+                },
+            ],
+        )
+        .unwrap();
+        // Hand: 70 °C is halfway: uniformity (0.010 + 0.030)/2 = 0.020, stability 0.006.
+        let items = m.at(70.0).unwrap().budget_items();
+        assert_eq!(items.len(), 2);
+        assert_eq!(items[0].name, "medium uniformity (LTM-BATH-07)");
+        match items[0].kind {
+            ItemKind::MediumUniformity { half_width_c } => assert!(close(half_width_c, 0.020)),
+            other => panic!("unexpected item {other:?}"),
+        }
+        match items[1].kind {
+            ItemKind::MediumStability { half_width_c } => assert!(close(half_width_c, 0.006)),
+            other => panic!("unexpected item {other:?}"),
+        }
+        // With loading the third item is a rectangular custom item.
+        let p = dry_block().characterisation.at(60.0).unwrap();
+        let items = p.budget_items();
+        assert_eq!(items[2].name, "medium loading effect (LTM-DRY-09)");
+        assert_eq!(
+            items[2].kind,
+            ItemKind::Custom {
+                spread: Spread::Rectangular,
+                value_c: 0.012
+            }
+        );
+    }
+
+    #[test]
+    fn short_stability_record_warns() {
+        let mut input = at_140();
+        input.stability = record(&[140.0, 140.01, 139.99]);
+        let r = characterise_temperature(2, &input).unwrap();
+        // Hand: 3 readings 300 s apart = 600 s = 10 min < 30 min.
+        assert_eq!(r.warnings.len(), 1);
+        assert_eq!(r.warnings[0].kind, MediumWarningKind::ShortStabilityRecord);
+        assert_eq!(
+            r.warnings[0].message,
+            "The stability record at 140 °C lasts 10 min; 30 min or more are recommended \
+             (EURAMET cg-13)."
+        );
+    }
+
+    #[test]
+    fn error_too_few_depths_or_bores() {
+        let mut input = at_60();
+        input.axial = Some(vec![depth(0.0, 60.0)]);
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), axial uniformity: at least 2 depths are needed; got 1"
+        );
+        let mut input = at_60();
+        input.radial = Some(RadialData::BoreReadings(vec![60.004]));
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), radial uniformity: at least 2 bores are needed; got 1"
+        );
+        let mut input = at_60();
+        input.radial = Some(RadialData::DifferencesToReferenceBore(vec![]));
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), radial uniformity: at least 2 bores are needed; got only the \
+             reference bore (no difference)"
+        );
+        let mut input = at_60();
+        input.axial = None;
+        input.radial = None;
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), uniformity: neither axial nor radial uniformity was measured; \
+             at least one is needed"
+        );
+        let mut input = at_60();
+        input.axial = Some(vec![
+            depth(0.0, 60.0),
+            depth(20.0, 59.99),
+            depth(20.0, 59.98),
+        ]);
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), axial uniformity: readings 2 and 3 are both at 20 mm; each \
+             height may appear once"
+        );
+        let mut input = at_60();
+        input.axial = Some(vec![depth(-5.0, 60.0), depth(20.0, 59.99)]);
+        assert!(err_of(input).contains("reading 1 at -5 mm lies below the bottom"));
+    }
+
+    #[test]
+    fn error_bad_stability_record() {
+        let mut input = at_60();
+        input.stability = record(&[60.0]);
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), stability: at least 2 readings are needed; got 1"
+        );
+        let mut input = at_60();
+        input.stability[2].time_s = 300.0;
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), stability: reading 3 at 300 s does not come after reading 2 \
+             at 300 s; times must increase"
+        );
+        let mut input = at_60();
+        input.stability[3].t_c = f64::NAN;
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), stability, reading 4, temperature: must be a finite number; \
+             got NaN"
+        );
+    }
+
+    #[test]
+    fn error_non_finite_and_negative_values() {
+        let mut input = at_60();
+        input.temperature_c = f64::INFINITY;
+        assert_eq!(
+            err_of(input),
+            "characterised temperature 2: must be a finite number; got inf"
+        );
+        let mut input = at_60();
+        input.loading_difference_c = Some(f64::NAN);
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), loading effect: must be a finite number; got NaN"
+        );
+        let mut input = at_60();
+        input.radial = Some(RadialData::BoreReadings(vec![60.0, f64::NAN]));
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), radial uniformity, bore 2: must be a finite number; got NaN"
+        );
+        let mut input = at_60();
+        input.reference_uncertainty = Some(ReferenceUncertainty {
+            expanded_c: -0.02,
+            k: 2.0,
+        });
+        assert_eq!(
+            err_of(input),
+            "set point 2 (60 °C), reference uncertainty: must not be negative; got -0.02"
+        );
+        let e = MediumCharacterisation::new(
+            "LTM-FURN-08",
+            "2024-06-30",
+            vec![MediumPoint {
+                temperature_c: 600.0,
+                uniformity_half_width_c: 0.4,
+                stability_half_width_c: -0.1,
+                loading_half_width_c: None,
+            }],
+        )
+        .unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "set point 1 (600 °C), stability half-width: must not be negative; got -0.1"
+        );
+    }
+
+    #[test]
+    fn error_duplicate_temperatures_and_bad_identity() {
+        let e = characterise_medium("LTM-DRY-09", "2024-03-14", &[at_60(), at_140(), at_60()])
+            .unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "medium LTM-DRY-09: characterised temperatures 1 and 3 are both 60 °C; each \
+             temperature may be characterised once"
+        );
+        let e = MediumCharacterisation::new("LTM-FURN-08", "2024-06-30", vec![]).unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "medium LTM-FURN-08: no characterised temperatures; at least one is needed"
+        );
+        let e = characterise_medium(" ", "2024-03-14", &[at_60()]).unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "medium: the medium needs an asset id or name"
+        );
+        let e = characterise_medium("LTM-DRY-09", "14.03.2024", &[at_60()]).unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "characterisation date of LTM-DRY-09: \"14.03.2024\": a date is written YYYY-MM-DD, \
+             e.g. 2024-03-14"
+        );
+    }
+
+    #[test]
+    fn single_temperature_characterisation_is_valid_only_there() {
+        let m = MediumCharacterisation::new(
+            "LTM-FURN-08",
+            "2024-06-30",
+            vec![MediumPoint {
+                temperature_c: 600.0,
+                uniformity_half_width_c: 0.4,
+                stability_half_width_c: 0.1,
+                loading_half_width_c: None,
+            }],
+        )
+        .unwrap();
+        assert_eq!(m.at(600.0).unwrap().uniformity_half_width_c, 0.4);
+        assert_eq!(
+            m.at(600.5).unwrap_err().to_string(),
+            "medium half-widths: LTM-FURN-08 is characterised from 600 °C to 600 °C; 600.5 °C \
+             lies outside and is not extrapolated"
+        );
+    }
+
+    #[test]
+    fn calendar_dates_parse_and_refuse() {
+        // Gregorian rule (hand): 2024 leap, 2023 not, 1900 not (century), 2000 leap (÷400).
+        // Cross-check: python3 -c "import calendar; print([calendar.monthrange(y, 2)[1] for y
+        // in (2024, 2023, 1900, 2000, 2100)])" prints [29, 28, 28, 29, 28].
+        assert_eq!(days_in_month(2024, 2), 29);
+        assert_eq!(days_in_month(2023, 2), 28);
+        assert_eq!(days_in_month(1900, 2), 28);
+        assert_eq!(days_in_month(2000, 2), 29);
+        assert_eq!(days_in_month(2100, 2), 28);
+        assert_eq!(days_in_month(2023, 4), 30);
+        assert_eq!(
+            CalendarDate::parse("2024-02-29", "d").unwrap(),
+            CalendarDate {
+                year: 2024,
+                month: 2,
+                day: 29
+            }
+        );
+        let e = |s: &str| {
+            CalendarDate::parse(s, "characterisation date")
+                .unwrap_err()
+                .to_string()
+        };
+        assert_eq!(
+            e("2023-02-29"),
+            "characterisation date: \"2023-02-29\": day 29 does not exist in 2023-02 (it has 28 \
+             days)"
+        );
+        assert_eq!(
+            e("2024-13-01"),
+            "characterisation date: \"2024-13-01\": month 13 is not between 1 and 12"
+        );
+        assert!(e("2024-1-05").contains("a date is written YYYY-MM-DD"));
+        assert!(e("2024-01-05 ").contains("a date is written YYYY-MM-DD"));
+        assert!(e("2024-0a-05").contains("a date is written YYYY-MM-DD"));
+        assert!(e("0000-01-01").contains("year 0000 is not a calendar year"));
+        assert!(e("2024-04-31").contains("day 31 does not exist in 2024-04 (it has 30 days)"));
+        assert!(e("2024-04-00").contains("day 0 does not exist"));
+    }
+
+    #[test]
+    fn due_dates_clamp_to_the_end_of_the_month() {
+        let due = |d: &str, m: u32| due_date(d, m).unwrap().to_string();
+        // Hand, calendar months with the day clamped to the month's last day:
+        assert_eq!(due("2024-01-31", 1), "2024-02-29"); // 2024 is a leap year
+        assert_eq!(due("2023-01-31", 1), "2023-02-28");
+        assert_eq!(due("2023-08-31", 6), "2024-02-29");
+        assert_eq!(due("2024-02-29", 12), "2025-02-28");
+        assert_eq!(due("2024-11-30", 3), "2025-02-28");
+        assert_eq!(due("2024-03-31", 1), "2024-04-30");
+        assert_eq!(due("2024-03-14", 12), "2025-03-14");
+        assert_eq!(due("2024-12-15", 1), "2025-01-15");
+        assert_eq!(due("2024-05-31", 27), "2026-08-31"); // 2 years and 3 months
+        assert_eq!(due("2099-12-31", 2), "2100-02-28"); // 2100 is not a leap year
+        assert_eq!(
+            due_date("2024-03-14", 0).unwrap_err().to_string(),
+            "interval: the interval must be at least 1 month"
+        );
+        assert_eq!(
+            due_date("9999-12-01", 1).unwrap_err().to_string(),
+            "interval: 9999-12-01 plus 1 months lies beyond the year 9999"
+        );
+    }
+
+    #[test]
+    fn overdue_from_the_day_after_the_due_date() {
+        // Due 2025-03-14 (12 months after 2024-03-14): valid through that day.
+        assert!(!is_overdue("2024-03-14", 12, "2025-03-13").unwrap());
+        assert!(!is_overdue("2024-03-14", 12, "2025-03-14").unwrap());
+        assert!(is_overdue("2024-03-14", 12, "2025-03-15").unwrap());
+        assert!(is_overdue("2024-03-14", 12, "2026-01-01").unwrap());
+        // Month-end: 2024-01-31 + 1 month = 2024-02-29; 2024-03-01 is overdue.
+        assert!(!is_overdue("2024-01-31", 1, "2024-02-29").unwrap());
+        assert!(is_overdue("2024-01-31", 1, "2024-03-01").unwrap());
+        let m = dry_block().characterisation;
+        assert_eq!(m.date().to_string(), "2024-03-14");
+        assert_eq!(m.due_date(6).unwrap().to_string(), "2024-09-14");
+        assert!(m.is_overdue(6, "2024-09-15").unwrap());
+        assert!(!m.is_overdue(6, "2024-09-14").unwrap());
+        assert_eq!(
+            is_overdue("2024-03-14", 12, "2025-3-15")
+                .unwrap_err()
+                .to_string(),
+            "today's date: \"2025-3-15\": a date is written YYYY-MM-DD, e.g. 2024-03-14"
+        );
+    }
+}

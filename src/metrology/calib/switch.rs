@@ -1288,3 +1288,780 @@ pub fn evaluate_switch_test(test: &SwitchTest) -> Result<SwitchResult, CalibErro
         warnings,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    //! Invented data of the invented laboratory "Larchmere Thermal Metrology" (LTM): a
+    //! thermostat tested in the stirred oil bath LTM-BATH-07 and a low-temperature alarm in the
+    //! Peltier dry-block LTM-DRY-09. Expected values: hand calculations shown beside the checks,
+    //! and the output of `python3 tests/data/switch_media_expected.py` (numpy 2.4.6,
+    //! scipy 1.17.1), pasted unchanged.
+
+    use super::*;
+    use crate::metrology::stats::{DecisionRule, Outcome};
+
+    /// Absolute tolerance for arithmetic on °C values (means, midpoints, quadrature sums).
+    const TOL_C: f64 = 1e-12;
+    /// Relative tolerance for ν_eff, k and U (Student t quantile of statrs against scipy).
+    const REL_TOL: f64 = 1e-9;
+
+    const C: SwitchState = SwitchState::Closed;
+    const O: SwitchState = SwitchState::Open;
+
+    fn close(a: f64, b: f64, tol: f64) -> bool {
+        (a - b).abs() <= tol
+    }
+
+    fn rel(a: f64, b: f64) -> bool {
+        ((a - b) / b).abs() <= REL_TOL
+    }
+
+    fn ramp(direction: Direction, pts: &[(f64, SwitchState)]) -> Ramp {
+        Ramp::readings(
+            direction,
+            pts.iter().map(|&(t, s)| StateReading::new(t, s)).collect(),
+        )
+    }
+
+    const OPENS_RISING: Actuation = Actuation {
+        direction: Direction::Rising,
+        action: ContactAction::Opens,
+    };
+    const CLOSES_FALLING: Actuation = Actuation {
+        direction: Direction::Falling,
+        action: ContactAction::Closes,
+    };
+
+    /// Scenario A: LTM thermostat, opens on rising at 70 °C, three cycles in LTM-BATH-07.
+    fn scenario_a() -> SwitchTest {
+        let ramps = vec![
+            ramp(
+                Direction::Rising,
+                &[(69.6, C), (69.8, C), (70.0, C), (70.2, O), (70.4, O)],
+            ),
+            ramp(
+                Direction::Falling,
+                &[(66.4, O), (66.2, O), (66.0, C), (65.8, C)],
+            ),
+            ramp(
+                Direction::Rising,
+                &[(69.9, C), (70.05, C), (70.25, O), (70.4, O)],
+            ),
+            ramp(Direction::Falling, &[(66.3, O), (66.15, O), (65.95, C)]),
+            ramp(
+                Direction::Rising,
+                &[(69.8, C), (69.95, C), (70.1, C), (70.4, O)],
+            ),
+            ramp(
+                Direction::Falling,
+                &[(66.5, O), (66.35, O), (66.15, C), (66.0, C)],
+            ),
+        ];
+        let mut test = SwitchTest::new(70.0, OPENS_RISING, ramps);
+        test.lag = ThermalLag::TimeConstant {
+            ramp_rate_c_per_min: 0.5,
+            time_constant_s: 12.0,
+        };
+        test.budget_items = vec![
+            BudgetItem::new(
+                "reference PRT calibration",
+                ItemKind::ReferenceCalibration {
+                    expanded_c: 0.05,
+                    k: 2.0,
+                },
+            ),
+            BudgetItem::new(
+                "LTM-BATH-07 uniformity",
+                ItemKind::MediumUniformity { half_width_c: 0.04 },
+            ),
+            BudgetItem::new(
+                "LTM-BATH-07 stability",
+                ItemKind::MediumStability { half_width_c: 0.02 },
+            ),
+            BudgetItem::new(
+                "immersion of the switch body",
+                ItemKind::Custom {
+                    spread: Spread::Rectangular,
+                    value_c: 0.05,
+                },
+            ),
+        ];
+        test.conformity = Some(SwitchConformitySpec {
+            tolerance: SwitchTolerance::Symmetric { half_width_c: 2.0 },
+            rule: DecisionRule::SimpleAcceptance,
+        });
+        test
+    }
+
+    fn err_text(test: &SwitchTest) -> String {
+        match evaluate_switch_test(test) {
+            Ok(_) => String::from("(no error)"),
+            Err(e) => e.to_string(),
+        }
+    }
+
+    fn row<'a>(
+        b: &'a BudgetResult,
+        name: &str,
+    ) -> &'a crate::metrology::stats::ComponentContribution {
+        match b.components.iter().find(|c| c.name == name) {
+            Some(c) => c,
+            None => panic!("no budget row {name:?} in {:?}", b.components),
+        }
+    }
+
+    #[test]
+    fn changes_are_midpoints_with_half_step_resolution() {
+        let r = evaluate_switch_test(&scenario_a()).unwrap();
+        // Hand: ramp 1 changes between 70.0 and 70.2: (70.0 + 70.2)/2 = 70.1, a = 0.2/2 = 0.1;
+        // ramp 5 between 70.1 and 70.4: 70.25, a = 0.15; ramp 4 between 66.15 and 65.95: 66.05.
+        assert_eq!(r.changes.len(), 6);
+        assert!(close(r.changes[0].t_c, 70.1, TOL_C));
+        assert!(close(r.changes[0].detection_half_width_c, 0.1, TOL_C));
+        assert_eq!(r.changes[0].bracket_c, Some((70.0, 70.2)));
+        assert_eq!(r.changes[0].new_state, Some(SwitchState::Open));
+        assert!(r.changes[0].actuating);
+        assert!(close(r.changes[4].t_c, 70.25, TOL_C));
+        assert!(close(r.changes[4].detection_half_width_c, 0.15, TOL_C));
+        assert!(close(r.changes[3].t_c, 66.05, TOL_C));
+        assert_eq!(r.changes[3].new_state, Some(SwitchState::Closed));
+        assert!(!r.changes[3].actuating);
+    }
+
+    #[test]
+    fn switch_point_mean_repeatability_and_budget() {
+        let r = evaluate_switch_test(&scenario_a()).unwrap();
+        let sp = &r.switch_point;
+        // Hand: (70.1 + 70.15 + 70.25)/3 = 210.5/3 = 70.1667; deviations -1/15, -1/60, +1/12,
+        // squares sum 0.011667, s = √(0.011667/2) = 0.076376, s/√3 = 0.044096.
+        // Script: A_SW_MEAN, A_SW_S, A_SW_SM.
+        assert_eq!(sp.n, 3);
+        assert_eq!(sp.direction, Direction::Rising);
+        assert!(close(sp.mean_c, 70.16666666666667, TOL_C));
+        assert!(close(sp.std_dev_c.unwrap(), 0.07637626158259919, TOL_C));
+        assert!(close(
+            sp.std_dev_of_mean_c.unwrap(),
+            0.04409585518441092,
+            TOL_C
+        ));
+        assert_eq!(sp.repeatability, RepeatabilitySource::Observed);
+        // Lag: 0.5 °C/min = 0.5/60 °C/s, × 12 s = 0.1 °C (hand).
+        assert!(close(r.lag_half_width_c, 0.1, TOL_C));
+        assert!(close(
+            row(&sp.budget, THERMAL_LAG_ROW).standard_uncertainty,
+            0.1 / 3f64.sqrt(),
+            TOL_C
+        ));
+        // Detection: largest half-width of the rising changes, 0.15 (ramp 5).
+        assert!(close(sp.detection_half_width_c, 0.15, TOL_C));
+        // Reference: U/k = 0.05/2 = 0.025 (JCGM 100:2008 4.3.3).
+        assert!(close(
+            row(&sp.budget, "reference PRT calibration").standard_uncertainty,
+            0.025,
+            TOL_C
+        ));
+        // Script: A_SW_UC = √(0.025² + (0.04² + 0.02² + 0.05² + 0.1² + 0.15²)/3 + 0.044096²),
+        // A_SW_NU = u_c⁴/(0.044096⁴/2), A_SW_K = t.ppf((1 + p)/2, ν), A_SW_U.
+        assert!(close(
+            sp.budget.combined_standard_uncertainty,
+            0.12207693384820265,
+            TOL_C
+        ));
+        assert!(rel(sp.budget.effective_dof, 117.4825510204072));
+        assert!(rel(sp.budget.coverage_factor, 2.0215034146740813));
+        assert!(rel(sp.budget.expanded_uncertainty, 0.24677893862708358));
+        assert!(close(sp.budget.estimate, 70.16666666666667, TOL_C));
+    }
+
+    #[test]
+    fn reset_point_budget() {
+        let r = evaluate_switch_test(&scenario_a()).unwrap();
+        let rp = r.reset_point.as_ref().unwrap();
+        // Hand: (66.1 + 66.05 + 66.25)/3 = 198.4/3 = 66.1333. Script: A_RS_*.
+        assert_eq!(rp.direction, Direction::Falling);
+        assert!(close(rp.mean_c, 66.13333333333334, TOL_C));
+        assert!(close(rp.std_dev_c.unwrap(), 0.10408329997330298, TOL_C));
+        assert!(close(
+            rp.std_dev_of_mean_c.unwrap(),
+            0.06009252125773105,
+            TOL_C
+        ));
+        assert!(close(rp.detection_half_width_c, 0.1, TOL_C));
+        assert!(close(
+            rp.budget.combined_standard_uncertainty,
+            0.11136775914858672,
+            TOL_C
+        ));
+        assert!(rel(rp.budget.effective_dof, 23.59316568047609));
+        assert!(rel(rp.budget.coverage_factor, 2.1116884766265507));
+        assert!(rel(rp.budget.expanded_uncertainty, 0.2351740136617917));
+    }
+
+    #[test]
+    fn differential_drops_common_terms_and_doubles_the_lag() {
+        let r = evaluate_switch_test(&scenario_a()).unwrap();
+        let d = r.differential.as_ref().unwrap();
+        // Hand: 70.1667 − 66.1333 = 4.0333. Script: A_D_* (reference and uniformity left out,
+        // stability, custom and detection twice, lag 2 × 0.1 = 0.2, both Type A rows).
+        assert!(close(d.value_c, 4.033333333333331, 1e-11));
+        assert!(close(d.budget.estimate, d.value_c, 1e-11));
+        assert!(close(
+            d.budget.combined_standard_uncertainty,
+            0.177920081934435,
+            TOL_C
+        ));
+        assert!(rel(d.budget.effective_dof, 119.14570275230777));
+        assert!(rel(d.budget.coverage_factor, 2.0212001464113647));
+        assert!(rel(d.budget.expanded_uncertainty, 0.35961209565540203));
+        let names: Vec<&str> = d
+            .budget
+            .components
+            .iter()
+            .map(|c| c.name.as_str())
+            .collect();
+        assert!(
+            !names
+                .iter()
+                .any(|n| n.contains("reference PRT calibration"))
+        );
+        assert!(!names.iter().any(|n| n.contains("uniformity")));
+        assert!(names.contains(&"LTM-BATH-07 stability (reset point)"));
+        assert!(close(
+            row(&d.budget, "thermal lag of the switch (both directions)").standard_uncertainty,
+            0.2 / 3f64.sqrt(),
+            TOL_C
+        ));
+    }
+
+    #[test]
+    fn simple_acceptance_pass_within_symmetric_tolerance() {
+        let r = evaluate_switch_test(&scenario_a()).unwrap();
+        let c = r.conformity.unwrap();
+        // Hand: 70 ± 2 → [68, 72]; 70.1667 lies inside: pass (ILAC-G8 4.2.1).
+        assert_eq!(c.decision.outcome, Outcome::Pass);
+        assert_eq!(c.decision.tolerance_limits.lower, Some(68.0));
+        assert_eq!(c.decision.tolerance_limits.upper, Some(72.0));
+    }
+
+    #[test]
+    fn guarded_non_binary_gives_conditional_pass_on_asymmetric_tolerance() {
+        let mut t = scenario_a();
+        t.conformity = Some(SwitchConformitySpec {
+            tolerance: SwitchTolerance::Asymmetric {
+                lower_c: -1.0,
+                upper_c: 0.2,
+            },
+            rule: DecisionRule::GuardedNonBinary { r: 1.0 },
+        });
+        let r = evaluate_switch_test(&t).unwrap();
+        let c = r.conformity.unwrap();
+        // Hand: limits 70 − 1 = 69 and 70 + 0.2 = 70.2; U = 0.2468 (A_SW_U), acceptance upper
+        // 70.2 − 0.2468 = 69.953 < 70.1667 ≤ 70.2: conditional pass (ILAC-G8 4.2.3).
+        assert_eq!(c.decision.outcome, Outcome::ConditionalPass);
+        assert!(close(
+            c.decision.tolerance_limits.upper.unwrap(),
+            70.2,
+            TOL_C
+        ));
+        assert!(close(
+            c.decision.tolerance_limits.lower.unwrap(),
+            69.0,
+            TOL_C
+        ));
+        assert!(rel(c.decision.guard_band, 0.24677893862708358));
+        // Hand: the same measured value against 70 ± 0.1 → upper 70.1 < 70.1667 < 70.1 + U:
+        // conditional fail; with simple acceptance: fail.
+        let spec = SwitchConformitySpec {
+            tolerance: SwitchTolerance::Symmetric { half_width_c: 0.1 },
+            rule: DecisionRule::GuardedNonBinary { r: 1.0 },
+        };
+        let c = switch_point_conformity(70.0, &spec, 70.16666666666667, 0.2468).unwrap();
+        assert_eq!(c.decision.outcome, Outcome::ConditionalFail);
+        let spec = SwitchConformitySpec {
+            rule: DecisionRule::SimpleAcceptance,
+            ..spec
+        };
+        let c = switch_point_conformity(70.0, &spec, 70.16666666666667, 0.2468).unwrap();
+        assert_eq!(c.decision.outcome, Outcome::Fail);
+    }
+
+    /// Scenario B: LTM low-temperature alarm in LTM-DRY-09, closes on falling at 5 °C; changes
+    /// noted by the technician with a resolution of 0.1 °C; lag half-width 0.05 °C.
+    fn scenario_b() -> SwitchTest {
+        let ramps = vec![
+            Ramp::observed(Direction::Falling, 4.8),
+            Ramp::observed(Direction::Rising, 6.3),
+            Ramp::observed(Direction::Falling, 4.9),
+            Ramp::observed(Direction::Rising, 6.2),
+            Ramp::observed(Direction::Falling, 4.85),
+        ];
+        let mut t = SwitchTest::new(5.0, CLOSES_FALLING, ramps);
+        t.observed_resolution_c = 0.1;
+        t.lag = ThermalLag::HalfWidth { half_width_c: 0.05 };
+        t
+    }
+
+    #[test]
+    fn falling_actuation_with_observed_changes() {
+        let r = evaluate_switch_test(&scenario_b()).unwrap();
+        // Hand: switch point = falling mean (4.8 + 4.9 + 4.85)/3 = 4.85, reset (6.3 + 6.2)/2 =
+        // 6.25, differential |4.85 − 6.25| = 1.4; detection a = 0.1/2 = 0.05.
+        // Script: B_SW_*, B_RS_*, B_D_*.
+        assert_eq!(r.switch_point.direction, Direction::Falling);
+        assert!(close(r.switch_point.mean_c, 4.85, TOL_C));
+        assert!(close(r.switch_point.detection_half_width_c, 0.05, TOL_C));
+        assert!(close(
+            r.switch_point.std_dev_of_mean_c.unwrap(),
+            0.028867513459481443,
+            TOL_C
+        ));
+        assert!(close(
+            r.switch_point.budget.combined_standard_uncertainty,
+            0.05000000000000009,
+            TOL_C
+        ));
+        assert!(rel(r.switch_point.budget.effective_dof, 17.999999999999748));
+        assert!(rel(
+            r.switch_point.budget.expanded_uncertainty,
+            0.10744246941164728
+        ));
+        let rp = r.reset_point.as_ref().unwrap();
+        assert!(close(rp.mean_c, 6.25, TOL_C));
+        assert!(rel(rp.budget.effective_dof, 2.7777777777777946));
+        assert!(rel(rp.budget.expanded_uncertainty, 0.22386268773336176));
+        let d = r.differential.as_ref().unwrap();
+        assert!(close(d.value_c, 1.4, 1e-12));
+        assert!(close(d.budget.estimate, 1.4, 1e-12));
+        assert!(close(
+            d.budget.combined_standard_uncertainty,
+            0.09128709291752764,
+            TOL_C
+        ));
+        assert!(rel(d.budget.effective_dof, 10.526315789473792));
+        assert!(rel(d.budget.expanded_uncertainty, 0.20701612982745884));
+        assert!(r.changes.iter().all(|c| c.bracket_c.is_none()));
+        assert!(r.warnings.is_empty());
+        assert!(r.conformity.is_none());
+    }
+
+    fn one_cycle() -> SwitchTest {
+        let mut t = SwitchTest::new(
+            70.0,
+            OPENS_RISING,
+            vec![
+                Ramp::observed(Direction::Rising, 70.1),
+                Ramp::observed(Direction::Falling, 66.1),
+            ],
+        );
+        t.observed_resolution_c = 0.1;
+        t
+    }
+
+    #[test]
+    fn one_cycle_without_pooled_s_warns_and_leaves_repeatability_out() {
+        let r = evaluate_switch_test(&one_cycle()).unwrap();
+        assert_eq!(
+            r.switch_point.repeatability,
+            RepeatabilitySource::NotEvaluated
+        );
+        assert_eq!(r.switch_point.std_dev_c, None);
+        let kinds: Vec<SwitchWarningKind> = r.warnings.iter().map(|w| w.kind).collect();
+        assert_eq!(
+            kinds,
+            vec![
+                SwitchWarningKind::RepeatabilityNotEvaluated,
+                SwitchWarningKind::RepeatabilityNotEvaluated
+            ]
+        );
+        assert!(
+            r.warnings[0]
+                .message
+                .contains("Only one rising ramp: the repeatability of the switch point")
+        );
+        assert_eq!(
+            row(&r.switch_point.budget, REPEATABILITY_NOT_EVALUATED_ROW).standard_uncertainty,
+            0.0
+        );
+        // Script: C_NOPOOL_K = 2.0000000000000004 (ν_eff infinite, normal quantile at
+        // erf(2/√2)); C_NOPOOL_U = 2 × 0.05/√3 = 0.057735.
+        assert!(r.switch_point.budget.effective_dof.is_infinite());
+        assert!(rel(
+            r.switch_point.budget.coverage_factor,
+            2.0000000000000004
+        ));
+        assert!(rel(
+            r.switch_point.budget.expanded_uncertainty,
+            0.057735026918962595
+        ));
+    }
+
+    #[test]
+    fn pooled_standard_deviation_replaces_type_a() {
+        let mut t = one_cycle();
+        t.pooled_repeatability = Some(PooledRepeatability {
+            std_dev_c: 0.08,
+            dof: 9.0,
+        });
+        let r = evaluate_switch_test(&t).unwrap();
+        assert!(r.warnings.is_empty());
+        assert_eq!(r.switch_point.repeatability, RepeatabilitySource::Pooled);
+        // Hand: u = 0.08/√1; u_c = √(0.05²/3 + 0.08²) = 0.085049. Script: C_SW_*.
+        assert!(close(
+            row(&r.switch_point.budget, POOLED_REPEATABILITY_ROW).standard_uncertainty,
+            0.08,
+            TOL_C
+        ));
+        assert!(close(
+            r.switch_point.budget.combined_standard_uncertainty,
+            0.08504900548115382,
+            TOL_C
+        ));
+        assert!(rel(r.switch_point.budget.effective_dof, 11.496337890625));
+        assert!(rel(
+            r.switch_point.budget.expanded_uncertainty,
+            0.19073296686939561
+        ));
+        // Differential: one pooled row 0.08 √(1/1 + 1/1) with ν = 9. Script: C_D_*.
+        let d = r.differential.unwrap();
+        assert!(close(
+            row(&d.budget, POOLED_REPEATABILITY_ROW).standard_uncertainty,
+            0.08 * 2f64.sqrt(),
+            TOL_C
+        ));
+        assert!(close(
+            d.budget.combined_standard_uncertainty,
+            0.12027745701779145,
+            TOL_C
+        ));
+        assert!(rel(d.budget.effective_dof, 11.496337890625));
+        assert!(rel(d.budget.expanded_uncertainty, 0.2697371485383575));
+    }
+
+    #[test]
+    fn manual_reset_switch_has_no_reset_point() {
+        let mut t = scenario_a();
+        t.ramps.retain(|r| r.direction == Direction::Rising);
+        let r = evaluate_switch_test(&t).unwrap();
+        assert!(r.reset_point.is_none());
+        assert!(r.differential.is_none());
+        assert_eq!(r.warnings.len(), 1);
+        assert_eq!(r.warnings[0].kind, SwitchWarningKind::NoResetRamps);
+        assert!(r.warnings[0].message.contains("No falling ramp"));
+        // Same switch-point budget as scenario A (script A_SW_UC).
+        assert!(close(
+            r.switch_point.budget.combined_standard_uncertainty,
+            0.12207693384820265,
+            TOL_C
+        ));
+    }
+
+    #[test]
+    fn small_turn_back_within_the_noise_allowance_is_accepted() {
+        // 70.0 → 69.95 falls back 0.05 °C ≤ 0.1 °C allowance; the change lies between the
+        // last closed reading 69.95 and the first open 70.1: (69.95 + 70.1)/2 = 70.025, a = 0.075.
+        let t = SwitchTest::new(
+            70.0,
+            OPENS_RISING,
+            vec![ramp(
+                Direction::Rising,
+                &[(69.8, C), (70.0, C), (69.95, C), (70.1, O), (70.3, O)],
+            )],
+        );
+        let r = evaluate_switch_test(&t).unwrap();
+        assert!(close(r.changes[0].t_c, 70.025, TOL_C));
+        assert!(close(r.changes[0].detection_half_width_c, 0.075, TOL_C));
+    }
+
+    #[test]
+    fn error_ramp_without_state_change() {
+        let mut t = scenario_a();
+        t.ramps.insert(
+            2,
+            ramp(
+                Direction::Rising,
+                &[(61.2, C), (66.0, C), (72.5, C), (78.9, C)],
+            ),
+        );
+        assert_eq!(
+            err_text(&t),
+            "ramp 3 (rising): the switch never changed state between 61.2 °C and 78.9 °C \
+             (it stayed closed)"
+        );
+        let mut t = scenario_a();
+        t.ramps[1] = Ramp {
+            direction: Direction::Falling,
+            data: RampData::ObservedChanges(vec![]),
+        };
+        assert_eq!(
+            err_text(&t),
+            "ramp 2 (falling): no state change was recorded; a ramp must show exactly one"
+        );
+    }
+
+    #[test]
+    fn error_ramp_never_reaches_nominal() {
+        let mut t = scenario_a();
+        t.ramps[2] = ramp(Direction::Rising, &[(65.0, C), (66.7, C), (68.4, C)]);
+        assert_eq!(
+            err_text(&t),
+            "ramp 3 (rising): the ramp never reaches the nominal switch point 70 °C: its highest \
+             reading is 68.4 °C, and the switch stayed closed"
+        );
+        let t = SwitchTest::new(
+            5.0,
+            CLOSES_FALLING,
+            vec![ramp(Direction::Falling, &[(9.0, O), (7.5, O), (6.5, O)])],
+        );
+        assert_eq!(
+            err_text(&t),
+            "ramp 1 (falling): the ramp never reaches the nominal switch point 5 °C: its lowest \
+             reading is 6.5 °C, and the switch stayed open"
+        );
+    }
+
+    #[test]
+    fn error_bouncing_contacts_lists_every_change() {
+        let mut t = scenario_a();
+        t.ramps[4] = ramp(
+            Direction::Rising,
+            &[
+                (69.9, C),
+                (70.0, C),
+                (70.1, O),
+                (70.2, C),
+                (70.3, O),
+                (70.4, O),
+            ],
+        );
+        // Hand: changes between 70.0/70.1, 70.1/70.2, 70.2/70.3 → 70.05, 70.15, 70.25.
+        assert_eq!(
+            err_text(&t),
+            "ramp 5 (rising): the contacts bounced: 3 state changes at 70.05 °C, 70.15 °C and \
+             70.25 °C; a ramp must show exactly one (repeat the ramp or check the contacts)"
+        );
+        let mut t = scenario_b();
+        t.ramps[3] = Ramp {
+            direction: Direction::Rising,
+            data: RampData::ObservedChanges(vec![6.2, 6.4]),
+        };
+        assert!(err_text(&t).starts_with(
+            "ramp 4 (rising): the contacts bounced: 2 state changes at 6.2 °C and 6.4 °C;"
+        ));
+    }
+
+    #[test]
+    fn error_ramp_going_the_wrong_way() {
+        let mut t = scenario_a();
+        t.ramps[2] = ramp(Direction::Rising, &[(72.0, O), (70.0, O), (68.0, C)]);
+        assert_eq!(
+            err_text(&t),
+            "ramp 3 (rising): the temperatures go the wrong way for a rising ramp: from 72 °C at \
+             the first reading to 68 °C at the last"
+        );
+        // 70.0 → 69.6 turns back by 0.4 °C > 0.1 °C allowance (hand: 70.0 − 69.6 = 0.4).
+        t.ramps[2] = ramp(
+            Direction::Rising,
+            &[(69.0, C), (69.5, C), (70.0, C), (69.6, C), (70.5, O)],
+        );
+        assert_eq!(
+            err_text(&t),
+            "ramp 3 (rising): reading 4 (69.6 °C) lies 0.4 °C below the highest earlier reading \
+             (70 °C); a rising ramp may turn back by at most 0.1 °C (noise allowance)"
+        );
+        // Falling ramp turning up by 0.3 °C: 65.9 − 65.6 = 0.3.
+        t.ramps[1] = ramp(
+            Direction::Falling,
+            &[(66.4, O), (65.6, C), (65.9, C), (65.2, C)],
+        );
+        assert_eq!(
+            err_text(&t),
+            "ramp 2 (falling): reading 3 (65.9 °C) lies 0.3 °C above the lowest earlier reading \
+             (65.6 °C); a falling ramp may turn back by at most 0.1 °C (noise allowance)"
+        );
+    }
+
+    #[test]
+    fn error_no_ramp_in_the_actuating_direction() {
+        let mut t = scenario_a();
+        t.ramps.retain(|r| r.direction == Direction::Falling);
+        assert_eq!(
+            err_text(&t),
+            "ramps: no rising ramp: the switch is specified to open on rising temperature, so at \
+             least one rising ramp is needed for the switch point"
+        );
+        t.ramps.clear();
+        assert!(err_text(&t).starts_with("ramps: the test has no ramps"));
+    }
+
+    #[test]
+    fn error_change_in_the_wrong_sense() {
+        let mut t = scenario_a();
+        t.ramps[0] = ramp(Direction::Rising, &[(69.9, O), (70.0, O), (70.2, C)]);
+        assert_eq!(
+            err_text(&t),
+            "ramp 1 (rising): the switch closed at 70.1 °C; it is specified to open on rising \
+             temperature"
+        );
+        let mut t = scenario_a();
+        t.ramps[1] = ramp(Direction::Falling, &[(66.4, C), (66.2, C), (66.0, O)]);
+        assert_eq!(
+            err_text(&t),
+            "ramp 2 (falling): the switch opened at 66.1 °C; it is specified to open on rising \
+             temperature, so on a falling ramp it should reset (closed)"
+        );
+    }
+
+    #[test]
+    fn error_too_few_readings_and_non_finite_values() {
+        let mut t = scenario_a();
+        t.ramps[0] = ramp(Direction::Rising, &[(70.1, O)]);
+        assert_eq!(
+            err_text(&t),
+            "ramp 1 (rising): 1 reading(s); at least 2 are needed to locate a state change"
+        );
+        let mut t = scenario_a();
+        t.ramps[1] = ramp(
+            Direction::Falling,
+            &[(66.4, O), (66.2, O), (f64::NAN, C), (65.8, C)],
+        );
+        assert_eq!(
+            err_text(&t),
+            "ramp 2 (falling), reading 3, reference temperature: must be a finite number; got NaN"
+        );
+        let mut t = scenario_b();
+        t.ramps[0] = Ramp::observed(Direction::Falling, f64::INFINITY);
+        assert_eq!(
+            err_text(&t),
+            "ramp 1 (falling), observed change 1: must be a finite number; got inf"
+        );
+        let mut t = scenario_a();
+        t.nominal_c = f64::NAN;
+        assert_eq!(
+            err_text(&t),
+            "nominal switch point: must be a finite number; got NaN"
+        );
+    }
+
+    #[test]
+    fn error_negative_half_widths_and_bad_settings() {
+        let mut t = scenario_a();
+        t.budget_items[1] = BudgetItem::new(
+            "LTM-BATH-07 uniformity",
+            ItemKind::MediumUniformity {
+                half_width_c: -0.04,
+            },
+        );
+        assert_eq!(
+            err_text(&t),
+            "budget item LTM-BATH-07 uniformity: must not be negative; got -0.04"
+        );
+        let mut t = scenario_a();
+        t.lag = ThermalLag::HalfWidth { half_width_c: -0.1 };
+        assert_eq!(err_text(&t), "half-width: must not be negative; got -0.1");
+        t.lag = ThermalLag::TimeConstant {
+            ramp_rate_c_per_min: 0.5,
+            time_constant_s: -3.0,
+        };
+        assert_eq!(err_text(&t), "time constant: must not be negative; got -3");
+        let mut t = scenario_b();
+        t.observed_resolution_c = -0.1;
+        assert_eq!(
+            err_text(&t),
+            "observed-change resolution: must not be negative; got -0.1"
+        );
+        let mut t = scenario_a();
+        t.noise_allowance_c = -0.01;
+        assert_eq!(
+            err_text(&t),
+            "noise allowance: must not be negative; got -0.01"
+        );
+        let mut t = one_cycle();
+        t.pooled_repeatability = Some(PooledRepeatability {
+            std_dev_c: 0.08,
+            dof: 0.0,
+        });
+        assert_eq!(
+            err_text(&t),
+            "pooled repeatability: the degrees of freedom must be positive; got 0"
+        );
+    }
+
+    #[test]
+    fn error_bad_tolerance_and_foreign_budget_items() {
+        let mut t = scenario_a();
+        t.conformity = Some(SwitchConformitySpec {
+            tolerance: SwitchTolerance::Symmetric { half_width_c: 0.0 },
+            rule: DecisionRule::SimpleAcceptance,
+        });
+        assert_eq!(
+            err_text(&t),
+            "switch-point tolerance: the half-width must be positive; got 0 °C"
+        );
+        t.conformity = Some(SwitchConformitySpec {
+            tolerance: SwitchTolerance::Asymmetric {
+                lower_c: 1.0,
+                upper_c: -1.0,
+            },
+            rule: DecisionRule::SimpleAcceptance,
+        });
+        assert_eq!(
+            err_text(&t),
+            "switch-point tolerance: the lower limit must be below the upper; got 1 °C and -1 °C"
+        );
+        let mut t = scenario_a();
+        t.budget_items.push(BudgetItem::new(
+            "switch display",
+            ItemKind::UutResolution { resolution_c: 0.1 },
+        ));
+        assert!(err_text(&t).starts_with("budget item switch display: a switch has no readout"));
+    }
+
+    #[test]
+    fn reference_readout_in_celsius_splits_accuracy_and_resolution() {
+        // Readout in °C: accuracy 0.01 + 1e-4 × |70.1667| = 0.0170167 (normal k = 2 → u =
+        // 0.0085083), resolution step 0.01 → a = 0.005 (hand). Accuracy cancels in the
+        // differential, resolution does not.
+        let mut t = scenario_a();
+        t.budget_items = vec![BudgetItem::new(
+            "reference readout",
+            ItemKind::ReferenceReadout(crate::metrology::calib::ReadoutSpec {
+                offset_signal_unit: 0.01,
+                relative: 1e-4,
+                spread: Spread::Normal { k: 2.0 },
+                resolution_signal_unit: 0.01,
+            }),
+        )];
+        let r = evaluate_switch_test(&t).unwrap();
+        let acc = row(&r.switch_point.budget, "reference readout: accuracy");
+        assert!(close(
+            acc.standard_uncertainty,
+            (0.01 + 1e-4 * 70.16666666666667) / 2.0,
+            TOL_C
+        ));
+        let res = row(&r.switch_point.budget, "reference readout: resolution");
+        assert!(close(res.standard_uncertainty, 0.005 / 3f64.sqrt(), TOL_C));
+        let d = r.differential.unwrap();
+        let names: Vec<&str> = d
+            .budget
+            .components
+            .iter()
+            .map(|c| c.name.as_str())
+            .collect();
+        assert!(!names.contains(&"reference readout: accuracy (switch point)"));
+        assert!(names.contains(&"reference readout: resolution (switch point)"));
+        assert!(names.contains(&"reference readout: resolution (reset point)"));
+    }
+
+    #[test]
+    fn message_helpers() {
+        assert_eq!(fmt_c(61.2), "61.2");
+        assert_eq!(fmt_c(-20.0), "-20");
+        assert_eq!(fmt_c(70.05000000000001), "70.05");
+        assert_eq!(fmt_c(-0.00001), "0");
+        assert_eq!(join_and(&["a".into()]), "a");
+        assert_eq!(
+            join_and(&["a".into(), "b".into(), "c".into()]),
+            "a, b and c"
+        );
+    }
+}
