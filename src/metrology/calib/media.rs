@@ -47,6 +47,10 @@
 //!   to the last day of a shorter month (31 Jan + 1 month = 28 or 29 Feb); the characterisation
 //!   is overdue from the day after the due date.
 //!
+//! Errors at one characterised temperature are located like a set point of a run: its number in
+//! the input (counted from 1) and its temperature, then the field, e.g. "set point 2 (60 °C),
+//! axial uniformity: at least 2 depths are needed; got 1".
+//!
 //! # Reference
 //! EURAMET cg-13 v4.0 (2017) (content from memory, see above); JCGM 100:2008 4.3.7
 //! (rectangular distribution), 5.1.2 (combination); Gregorian calendar leap-year rule
@@ -581,7 +585,7 @@ pub struct CalendarDate {
 /// # Reference
 /// Gregorian calendar: divisible by 4, except centuries not divisible by 400.
 pub fn is_leap_year(year: u32) -> bool {
-    (year % 4 == 0 && year % 100 != 0) || year % 400 == 0
+    (year.is_multiple_of(4) && !year.is_multiple_of(100)) || year.is_multiple_of(400)
 }
 
 /// Number of days in `month` (1..=12) of `year`; 0 for a month outside 1..=12.

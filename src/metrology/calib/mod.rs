@@ -47,9 +47,14 @@ pub use cmc::{CmcRange, CmcTable};
 pub use conformity::ConformityResult;
 pub use error::{CalibError, Location};
 pub use fit::{DeviationFunction, FitQuantity, FlaggedResidual};
+pub use media::{
+    CharacterisationInput, CharacterisedMedium, MediumAt, MediumCharacterisation, MediumPoint,
+    characterise_medium,
+};
 pub use model::{
     ConformitySpec, FitDegree, JunctionMethod, Reading, ReferenceProbe, Run, SetPoint,
     ToleranceSpec, UnitUnderTest,
 };
 pub use run::{ReadingResult, RunResult, SetPointResult, Warning, WarningKind, evaluate_run};
+pub use switch::{SwitchResult, SwitchTest, evaluate_switch_test};
 pub use uut::UutDeviation;

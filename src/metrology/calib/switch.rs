@@ -380,9 +380,10 @@ pub struct SwitchTest {
 }
 
 impl SwitchTest {
-    /// A test with no lag, no observed-change resolution, the default noise allowance, no
-    /// budget items, no pooled repeatability, coverage probability [`P_K2`] and no conformity
-    /// statement.
+    /// A test with no lag, no observed-change resolution (set
+    /// [`SwitchTest::observed_resolution_c`] when changes are observed directly), the default
+    /// noise allowance, no budget items, no pooled repeatability, coverage probability [`P_K2`]
+    /// and no conformity statement.
     pub fn new(nominal_c: f64, actuation: Actuation, ramps: Vec<Ramp>) -> Self {
         SwitchTest {
             nominal_c,
