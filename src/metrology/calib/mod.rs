@@ -15,6 +15,8 @@
 //! | [`conformity`] | tolerance at t_ref and the decision |
 //! | [`fit`] | deviation function and its evaluation inside the calibrated range |
 //! | [`run`] | [`evaluate_run`], results and warnings |
+//! | [`media`] | comparison media: uniformity, stability and loading half-widths, interpolation, due date |
+//! | [`switch`] | temperature switches: switch and reset points, differential, budgets, conformity |
 //! | [`error`] | [`CalibError`] with the location of every failure |
 //!
 //! Units: temperatures in °C (ITS-90), emf in mV, resistance in Ω; field names end in `_c`,
@@ -30,9 +32,11 @@ pub mod cmc;
 pub mod conformity;
 pub mod error;
 pub mod fit;
+pub mod media;
 pub mod model;
 pub mod reference;
 pub mod run;
+pub mod switch;
 pub mod uut;
 
 #[cfg(test)]
@@ -43,9 +47,14 @@ pub use cmc::{CmcRange, CmcTable};
 pub use conformity::ConformityResult;
 pub use error::{CalibError, Location};
 pub use fit::{DeviationFunction, FitQuantity, FlaggedResidual, temperature_from_emf};
+pub use media::{
+    CharacterisationInput, CharacterisedMedium, MediumAt, MediumCharacterisation, MediumPoint,
+    characterise_medium,
+};
 pub use model::{
     ConformitySpec, FitDegree, JunctionMethod, Reading, ReferenceProbe, Run, SetPoint,
     ToleranceSpec, UnitUnderTest,
 };
 pub use run::{ReadingResult, RunResult, SetPointResult, Warning, WarningKind, evaluate_run};
+pub use switch::{SwitchResult, SwitchTest, evaluate_switch_test};
 pub use uut::UutDeviation;
