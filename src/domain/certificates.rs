@@ -310,6 +310,7 @@ pub async fn build_snapshot(
         performed_by: technician,
         approved_by: issue.approved_by.to_owned(),
         plot,
+        switch: None,
     })
 }
 

@@ -1929,6 +1929,7 @@ mod tests {
                 tolerance_upper: tol(1.0),
                 tolerance_lower: tol(-1.0),
             },
+            switch: None,
         }
     }
 

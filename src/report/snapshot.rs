@@ -51,6 +51,77 @@ pub struct CertificateSnapshot {
     pub approved_by: String,
     /// Data for the deviation plot.
     pub plot: PlotBlock,
+    /// Results of a temperature-switch test (absent for sensor
+    /// calibrations, and then not written, so earlier snapshots keep their
+    /// bytes and fingerprints).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub switch: Option<SwitchBlock>,
+}
+
+/// The results of a temperature-switch test as printed.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SwitchBlock {
+    /// Nominal switch point, °C.
+    pub nominal_t_c: f64,
+    /// What the switch does, e.g. "opens on rising temperature".
+    pub actuation: String,
+    /// How the state changes were found, e.g. "4 rising and 4 falling
+    /// ramps at 0.5 °C/min, contact state read at every reading".
+    pub method: String,
+    /// Switch point (mean of the actuating changes).
+    pub switch_point: SwitchPointBlock,
+    /// Reset point (mean of the other changes), if reset ramps were run.
+    pub reset_point: Option<SwitchPointBlock>,
+    /// Differential (hysteresis) |switch − reset|, °C, with its U.
+    pub differential: Option<SwitchValue>,
+    /// Every state change found, in test order.
+    pub changes: Vec<SwitchChange>,
+    /// Outcome of the switch point against nominal ± tolerance, if stated
+    /// ("pass", "fail", "conditional pass", "conditional fail").
+    pub outcome: Option<String>,
+    /// Warnings printed with the results (e.g. one cycle only).
+    pub notes: Vec<String>,
+}
+
+/// A switch or reset point.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SwitchPointBlock {
+    /// "rising" or "falling".
+    pub direction: String,
+    /// Number of changes averaged.
+    pub n: u32,
+    /// Mean temperature with its U.
+    pub value: SwitchValue,
+    /// Experimental standard deviation of the changes, °C (n ≥ 2).
+    pub std_dev_c: Option<f64>,
+}
+
+/// A value in °C with its expanded uncertainty, and how it prints.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SwitchValue {
+    /// Value, °C.
+    pub value_c: f64,
+    /// Expanded uncertainty U, °C.
+    pub expanded_uncertainty_c: f64,
+    /// Coverage factor k.
+    pub coverage_factor: f64,
+    /// Rounded value as printed, °C.
+    pub printed_value_c: String,
+    /// Rounded U as printed, °C.
+    pub printed_uncertainty_c: String,
+}
+
+/// One observed state change.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SwitchChange {
+    /// Ramp number (1-based).
+    pub ramp: u32,
+    /// "rising" or "falling".
+    pub direction: String,
+    /// Temperature of the change, °C.
+    pub t_c: f64,
+    /// The state after the change ("open", "closed"), when recorded.
+    pub new_state: Option<String>,
 }
 
 /// The revision replaced by an amendment.
@@ -261,10 +332,13 @@ impl CertificateSnapshot {
     /// ILAC-G8:09/2019 4.2.3 (the four outcomes of a decision).
     #[must_use]
     pub fn overall_outcome(&self) -> &'static str {
+        let switch_outcome = self.switch.as_ref().and_then(|s| s.outcome.as_deref());
         let has = |label: &str| {
-            self.results
-                .iter()
-                .any(|r| r.outcome.as_deref() == Some(label))
+            switch_outcome == Some(label)
+                || self
+                    .results
+                    .iter()
+                    .any(|r| r.outcome.as_deref() == Some(label))
         };
         if has("fail") {
             "fail"
