@@ -367,13 +367,30 @@ pub async fn prepare(conn: &mut SqliteConnection, run: &Run) -> Result<Prepared,
         );
     }
 
-    let (medium, characterisation) = match run.medium_id {
+    let (medium, characterisation, medium_run) = match run.medium_id {
         Some(id) => {
             let m = item(conn, id).await?;
             let ranges = equipment::characterisation_on(conn, id, &run.performed_on).await?;
-            (Some(m), ranges)
+            let measured =
+                crate::store::switches::characterisation_run_on(conn, id, &run.performed_on)
+                    .await?;
+            // A characterisation run from readings takes precedence over
+            // entered ranges unless the ranges are more recent.
+            let measured = measured.filter(|r| {
+                ranges
+                    .first()
+                    .is_none_or(|c| r.characterised_on >= c.characterised_on)
+            });
+            let measured = match measured {
+                Some(r) => Some(
+                    medium_characterisation(&m.asset_id, &r)
+                        .map_err(|e| records_error("medium", e))?,
+                ),
+                None => None,
+            };
+            (Some(m), ranges, measured)
         }
-        None => (None, Vec::new()),
+        None => (None, Vec::new(), None),
     };
 
     let mut set_points = Vec::new();
@@ -409,7 +426,12 @@ pub async fn prepare(conn: &mut SqliteConnection, run: &Run) -> Result<Prepared,
                 k: u.k,
             },
         ));
-        if let Some(m) = &medium
+        if let Some(mc) = &medium_run {
+            let at = mc
+                .at(t)
+                .map_err(|e| records_error("medium", e.to_string()))?;
+            items.extend(at.budget_items());
+        } else if let Some(m) = &medium
             && !characterisation.is_empty()
         {
             let c = characterisation.iter().find(|c| (c.t_lo_c..=c.t_hi_c).contains(&t)).ok_or_else(|| {
@@ -505,7 +527,10 @@ pub async fn prepare(conn: &mut SqliteConnection, run: &Run) -> Result<Prepared,
             reference_certificate: certificate.number,
             reference_due_on: certificate.due_on,
             equipment: used,
-            medium_characterised_on: characterisation.first().map(|c| c.characterised_on.clone()),
+            medium_characterised_on: match &medium_run {
+                Some(mc) => Some(mc.date().to_string()),
+                None => characterisation.first().map(|c| c.characterised_on.clone()),
+            },
             coverage_probability,
         },
     })
@@ -530,4 +555,29 @@ pub fn defined_range(kind: &str, tc_type: Option<&str>) -> Option<(f64, f64)> {
         )),
         _ => None,
     }
+}
+
+/// The interpolating characterisation of a medium from a stored
+/// characterisation run.
+///
+/// # Errors
+/// A sentence when the stored points cannot form a characterisation.
+pub fn medium_characterisation(
+    asset_id: &str,
+    run: &crate::store::switches::CharacterisationRun,
+) -> Result<calib::MediumCharacterisation, String> {
+    calib::MediumCharacterisation::new(
+        asset_id,
+        &run.characterised_on,
+        run.points
+            .iter()
+            .map(|p| calib::MediumPoint {
+                temperature_c: p.temperature_c,
+                uniformity_half_width_c: p.uniformity_half_width_c,
+                stability_half_width_c: p.stability_half_width_c,
+                loading_half_width_c: p.loading_half_width_c,
+            })
+            .collect(),
+    )
+    .map_err(|e| e.to_string())
 }

@@ -12,6 +12,7 @@ pub mod lab;
 pub mod records;
 pub mod runs;
 pub mod sessions;
+pub mod switches;
 pub mod templates;
 
 use std::path::{Path, PathBuf};

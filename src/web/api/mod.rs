@@ -2,6 +2,7 @@
 
 pub mod compute;
 pub mod equipment;
+pub mod media;
 pub mod health;
 pub mod openapi;
 pub mod records;
@@ -92,6 +93,10 @@ pub fn routes() -> Router<AppState> {
             post(review::return_to_technician),
         )
         .route("/api/v1/review", get(review::queue))
+        .route(
+            "/api/v1/equipment/{asset_id}/characterisation-runs",
+            get(media::list).post(media::add),
+        )
         .route("/api/v1/certificates", get(register::list))
         .route(
             "/api/v1/certificates/{number}",

@@ -27,6 +27,29 @@ fn json<T: Serialize>(value: &T) -> serde_json::Value {
     serde_json::to_value(value).unwrap_or(serde_json::Value::Null)
 }
 
+/// The date of a medium's latest characterisation (entered ranges or a
+/// characterisation run) on or before `date`.
+///
+/// # Errors
+/// A database error.
+pub async fn characterised_on(
+    conn: &mut sqlx::SqliteConnection,
+    equipment_id: i64,
+    date: &str,
+) -> Result<Option<String>, AppError> {
+    let ranges = equipment::characterisation_on(conn, equipment_id, date).await?;
+    let run = crate::store::switches::characterisation_run_on(conn, equipment_id, date).await?;
+    Ok(
+        [
+            ranges.first().map(|c| c.characterised_on.clone()),
+            run.map(|r| r.characterised_on),
+        ]
+        .into_iter()
+        .flatten()
+        .max(),
+    )
+}
+
 /// Why an equipment item may not be used on a date, if it may not.
 ///
 /// # Errors
@@ -45,17 +68,16 @@ pub async fn unusable_reason(
         return Ok(Some(format!("{} is out of service{why}", item.asset_id)));
     }
     if ["bath", "furnace", "dry_block"].contains(&item.kind.as_str()) {
-        let ranges = equipment::characterisation_on(conn, item.id, date).await?;
-        if let Some(first) = ranges.first() {
+        if let Some(last) = characterised_on(conn, item.id, date).await? {
             let interval = lab::get(conn)
                 .await?
                 .map_or(365, |l| l.characterisation_interval_days);
-            if let (Ok(on), Ok(run)) = (parse_date(&first.characterised_on), parse_date(date))
+            if let (Ok(on), Ok(run)) = (parse_date(&last), parse_date(date))
                 && (run - on).whole_days() > interval
             {
                 return Ok(Some(format!(
-                    "{} was last characterised on {}, more than {interval} days before {date}",
-                    item.asset_id, first.characterised_on
+                    "{} was last characterised on {last}, more than {interval} days before {date}",
+                    item.asset_id
                 )));
             }
         }

@@ -799,13 +799,12 @@ async fn run_render(
             continue;
         };
         let record = if role == "medium" {
-            equipment::characterisation_on(&mut conn, item.id, &run.performed_on)
+            run_ops::characterised_on(&mut conn, item.id, &run.performed_on)
                 .await
-                .map_err(AppError::from)?
-                .first()
+                .map_err(PageError)?
                 .map_or_else(
                     || "no characterisation".to_owned(),
-                    |c| format!("characterised on {}", c.characterised_on),
+                    |on| format!("characterised on {on}"),
                 )
         } else {
             equipment::certificate_on(&mut conn, item.id, &run.performed_on)
