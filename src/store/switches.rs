@@ -138,7 +138,11 @@ pub async fn ramps(conn: &mut SqliteConnection, run_id: i64) -> sqlx::Result<Vec
 ///
 /// # Errors
 /// Any database error.
-pub async fn delete_ramp(conn: &mut SqliteConnection, run_id: i64, ramp_id: i64) -> sqlx::Result<bool> {
+pub async fn delete_ramp(
+    conn: &mut SqliteConnection,
+    run_id: i64,
+    ramp_id: i64,
+) -> sqlx::Result<bool> {
     let done = sqlx::query!(
         "DELETE FROM switch_ramp WHERE run_id = ? AND id = ?",
         run_id,

@@ -10,6 +10,7 @@ mod faults;
 mod foundation;
 mod helpers;
 mod hostile;
+mod media;
 mod pages;
 mod process;
 mod records;

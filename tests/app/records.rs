@@ -160,7 +160,7 @@ fn run_body(date: &str) -> Value {
            "decision_rule": "guarded_non_binary", "guard_band_factor": 1.0})
 }
 
-async fn customer_and_instrument(lab: &Lab) {
+pub async fn customer_and_instrument(lab: &Lab) {
     let customer = ok(
         &call(
             &lab.app,

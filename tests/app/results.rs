@@ -8,17 +8,17 @@ use sqlx::SqlitePool;
 
 use crate::records::{Lab, call, lab, token_for};
 
-fn ok(answer: &crate::helpers::Answer, status: StatusCode) -> Value {
+pub fn ok(answer: &crate::helpers::Answer, status: StatusCode) -> Value {
     assert_eq!(answer.status, status, "{}", answer.text());
     answer.json()
 }
 
-fn num(v: &Value) -> f64 {
+pub fn num(v: &Value) -> f64 {
     v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
 }
 
 /// Records a run with set points and readings; returns its id.
-async fn record_run(lab: &Lab, body: Value, points: &[(f64, Vec<Value>)]) -> i64 {
+pub async fn record_run(lab: &Lab, body: Value, points: &[(f64, Vec<Value>)]) -> i64 {
     let run = ok(
         &call(
             &lab.app,
@@ -61,7 +61,7 @@ async fn record_run(lab: &Lab, body: Value, points: &[(f64, Vec<Value>)]) -> i64
     id
 }
 
-async fn results(lab: &Lab, id: i64) -> Value {
+pub async fn results(lab: &Lab, id: i64) -> Value {
     ok(
         &call(
             &lab.app,

@@ -112,7 +112,10 @@ pub struct CharacterisationOut {
 fn inputs(body: &CharacterisationRunBody, p: &mut Problems) -> Vec<CharacterisationInput> {
     let mut out = Vec::new();
     if body.temperatures.is_empty() {
-        p.add("temperatures", "give at least one characterised temperature");
+        p.add(
+            "temperatures",
+            "give at least one characterised temperature",
+        );
     }
     for (i, t) in body.temperatures.iter().enumerate() {
         let radial = match (&t.radial_bores_c, &t.radial_differences_c) {
@@ -147,15 +150,20 @@ fn inputs(body: &CharacterisationRunBody, p: &mut Problems) -> Vec<Characterisat
                 })
                 .collect(),
             loading_difference_c: t.loading_difference_c,
-            reference_uncertainty: t
-                .reference_expanded_c
-                .map(|u| ReferenceUncertainty { expanded_c: u, k: 2.0 }),
+            reference_uncertainty: t.reference_expanded_c.map(|u| ReferenceUncertainty {
+                expanded_c: u,
+                k: 2.0,
+            }),
         });
     }
     out
 }
 
-fn out_of(asset_id: &str, run: &CharacterisationRun, warnings: &[Vec<String>]) -> CharacterisationOut {
+fn out_of(
+    asset_id: &str,
+    run: &CharacterisationRun,
+    warnings: &[Vec<String>],
+) -> CharacterisationOut {
     CharacterisationOut {
         asset_id: asset_id.to_owned(),
         id: run.id,
@@ -193,7 +201,9 @@ pub async fn record_characterisation(
     let mut tx = store::begin_write(db).await?;
     let item = equipment::by_asset_id(&mut tx, asset_id)
         .await?
-        .ok_or_else(|| AppError::NotFound(format!("there is no equipment with asset id {asset_id:?}")))?;
+        .ok_or_else(|| {
+            AppError::NotFound(format!("there is no equipment with asset id {asset_id:?}"))
+        })?;
     let mut p = Problems::default();
     if !MEDIA.contains(&item.kind.as_str()) {
         p.add(
@@ -289,7 +299,11 @@ pub async fn list(
     let mut conn = state.db.acquire().await?;
     let item = equipment::by_asset_id(&mut conn, &asset_id)
         .await?
-        .ok_or_else(|| AppError::NotFound(format!("there is no equipment with asset id {asset_id:?}")))?;
+        .ok_or_else(|| {
+            AppError::NotFound(format!("there is no equipment with asset id {asset_id:?}"))
+        })?;
     let runs = switches::characterisation_runs(&mut conn, item.id).await?;
-    Ok(Json(runs.iter().map(|r| out_of(&asset_id, r, &[])).collect()))
+    Ok(Json(
+        runs.iter().map(|r| out_of(&asset_id, r, &[])).collect(),
+    ))
 }

@@ -2,8 +2,8 @@
 
 pub mod compute;
 pub mod equipment;
-pub mod media;
 pub mod health;
+pub mod media;
 pub mod openapi;
 pub mod records;
 pub mod reference;

@@ -39,15 +39,13 @@ pub async fn characterised_on(
 ) -> Result<Option<String>, AppError> {
     let ranges = equipment::characterisation_on(conn, equipment_id, date).await?;
     let run = crate::store::switches::characterisation_run_on(conn, equipment_id, date).await?;
-    Ok(
-        [
-            ranges.first().map(|c| c.characterised_on.clone()),
-            run.map(|r| r.characterised_on),
-        ]
-        .into_iter()
-        .flatten()
-        .max(),
-    )
+    Ok([
+        ranges.first().map(|c| c.characterised_on.clone()),
+        run.map(|r| r.characterised_on),
+    ]
+    .into_iter()
+    .flatten()
+    .max())
 }
 
 /// Why an equipment item may not be used on a date, if it may not.
