@@ -8,7 +8,7 @@ use crate::metrology::calib::{self, RunResult};
 use crate::report::snapshot::{
     CertificateSnapshot, ConditionsBlock, ConformityBlock, CustomerBlock, DatesBlock,
     FunctionBlock, ItemBlock, LabBlock, PlotBlock, PrintedRow, Replaced, ResultRow,
-    SNAPSHOT_FORMAT, TraceRow,
+    SNAPSHOT_FORMAT, SwitchBlock, TraceRow,
 };
 use crate::store::runs::Run;
 use crate::store::{accounts, equipment, lab, records};
@@ -54,13 +54,29 @@ pub fn fixed_statements(coverage_probability: f64) -> Vec<String> {
     ]
 }
 
+/// What a run's certificate reports.
+#[derive(Debug)]
+pub enum Computed {
+    /// A sensor calibration: results per set point.
+    Sensor(Box<RunResult>),
+    /// A temperature-switch test.
+    Switch {
+        /// The switch results as printed.
+        block: Box<SwitchBlock>,
+        /// The conformity statement, if a tolerance was agreed.
+        conformity: Option<ConformityBlock>,
+        /// Coverage probability of the U's.
+        coverage_probability: f64,
+    },
+}
+
 /// Everything needed to issue a certificate for a run.
 #[derive(Debug)]
 pub struct Issue<'a> {
     /// The run.
     pub run: &'a Run,
     /// Its computed results.
-    pub results: &'a RunResult,
+    pub results: &'a Computed,
     /// Certificate number.
     pub number: &'a str,
     /// Revision.
@@ -82,7 +98,6 @@ pub async fn build_snapshot(
     issue: Issue<'_>,
 ) -> Result<CertificateSnapshot, ResultsError> {
     let run = issue.run;
-    let r = issue.results;
     let missing = |what: &str| ResultsError::Records {
         field: what.to_owned(),
         message: format!("the run's {what} is missing"),
@@ -135,119 +150,25 @@ pub async fn build_snapshot(
         });
     }
 
-    let coverage_probability = r
-        .set_points
-        .first()
-        .map_or(0.9545, |s| s.budget.coverage_probability);
-    let rows: Vec<ResultRow> = r
-        .set_points
-        .iter()
-        .map(|sp| {
-            let decimals = decimals_of(&sp.reported.uncertainty_text);
-            ResultRow {
-                nominal_t_c: sp.nominal_c,
-                t_ref_c: sp.mean_t_ref_c,
-                t_uut_c: sp.mean_t_uut_c,
-                deviation_c: sp.mean_deviation_c,
-                correction_c: -sp.mean_deviation_c,
-                expanded_uncertainty_c: sp.reported.expanded_uncertainty.to_f64(),
-                coverage_factor: sp.budget.coverage_factor,
-                coverage_probability: sp.budget.coverage_probability,
-                deviation_emf_mv: sp.mean_deviation_emf_mv,
-                printed: PrintedRow {
-                    t_ref_c: format!("{:.decimals$}", sp.mean_t_ref_c),
-                    t_uut_c: format!("{:.decimals$}", sp.mean_t_uut_c),
-                    deviation_c: sp.reported.value_text.clone(),
-                    correction_c: negate_text(&sp.reported.value_text),
-                    expanded_uncertainty_c: sp.reported.uncertainty_text.clone(),
-                    coverage_factor: format!("{:.2}", sp.budget.coverage_factor),
-                },
-                outcome: sp
-                    .conformity
-                    .as_ref()
-                    .map(|c| c.decision.outcome.label().to_owned()),
+    let (rows, deviation_function, conformity, plot, coverage_probability, switch) =
+        match issue.results {
+            Computed::Sensor(r) => {
+                let (rows, f, c, plot, p) = sensor_blocks(r, run, &instrument.kind);
+                (rows, f, c, plot, p, None)
             }
-        })
-        .collect();
-
-    let max_u = rows
-        .iter()
-        .map(|r| r.expanded_uncertainty_c)
-        .fold(0.0, f64::max);
-    let max_k = rows.iter().map(|r| r.coverage_factor).fold(0.0, f64::max);
-    let deviation_function = r.deviation_function.as_ref().map(|f| FunctionBlock {
-        form: "polynomial".to_owned(),
-        variable: "t_c".to_owned(),
-        coefficients: f.coefficients.clone(),
-        covariance: f.covariance.clone(),
-        emf_coefficients: r.emf_deviation_function.as_ref().map(|e| e.coefficients.clone()),
-        valid_from_t_c: f.validity_c.0,
-        valid_to_t_c: f.validity_c.1,
-        expanded_uncertainty_c: max_u,
-        coverage_factor: max_k,
-        usage: format!(
-            "Deviation D(t) = sum of c_i t^i with t the temperature in °C; correct a reading by subtracting D(t). Valid from {:.2} °C to {:.2} °C only; the expanded uncertainty of a corrected reading is {} °C.",
-            f.validity_c.0, f.validity_c.1, rows.iter().map(|r| r.printed.expanded_uncertainty_c.clone()).max_by(|a, b| a.parse::<f64>().unwrap_or(0.0).total_cmp(&b.parse::<f64>().unwrap_or(0.0))).unwrap_or_default()
-        ),
-    });
-
-    let conformity = match (
-        &run.tolerance_class,
-        run.tolerance_limit_c,
-        r.set_points.iter().find_map(|s| s.conformity.as_ref()),
-    ) {
-        (class, limit, Some(first)) => {
-            let specification = match (class, limit, instrument.kind.as_str()) {
-                (Some(c), _, "thermocouple") if ["standard", "special"].contains(&c.as_str()) => {
-                    format!("ASTM E230 {c} limits")
-                }
-                (Some(c), _, "thermocouple") => format!("IEC 60584-1:2013 class {c}"),
-                (Some(c), _, _) => format!("IEC 60751:2008 class {c}"),
-                (None, Some(l), _) => format!("customer limit ± {l} °C on the deviation"),
-                (None, None, _) => String::new(),
-            };
-            let outcomes: Vec<String> = r
-                .set_points
-                .iter()
-                .map(|s| match &s.conformity {
-                    Some(c) => format!("{:.2} °C: {}", s.nominal_c, c.decision.outcome.label()),
-                    None => format!("{:.2} °C: no statement (the specification does not cover this temperature)", s.nominal_c),
-                })
-                .collect();
-            Some(ConformityBlock {
-                specification,
-                decision_rule: first.decision.statement.clone(),
-                statement: outcomes.join("; "),
-            })
-        }
-        _ => None,
-    };
-
-    let mut plot = PlotBlock::default();
-    for sp in &r.set_points {
-        plot.points.push([
-            sp.mean_t_ref_c,
-            sp.mean_deviation_c,
-            sp.budget.expanded_uncertainty,
-        ]);
-        if let Some(c) = &sp.conformity {
-            if let Some(u) = c.decision.tolerance_limits.upper {
-                plot.tolerance_upper.push([sp.mean_t_ref_c, u]);
-            }
-            if let Some(l) = c.decision.tolerance_limits.lower {
-                plot.tolerance_lower.push([sp.mean_t_ref_c, l]);
-            }
-        }
-    }
-    if let Some(f) = &r.deviation_function {
-        let (lo, hi) = f.validity_c;
-        for i in 0..=40 {
-            let t = lo + (hi - lo) * f64::from(i) / 40.0;
-            if let Ok((v, u)) = f.evaluate(t) {
-                plot.curve.push([t, v, 2.0 * u]);
-            }
-        }
-    }
+            Computed::Switch {
+                block,
+                conformity,
+                coverage_probability,
+            } => (
+                Vec::new(),
+                None,
+                conformity.clone(),
+                PlotBlock::default(),
+                *coverage_probability,
+                Some((**block).clone()),
+            ),
+        };
 
     Ok(CertificateSnapshot {
         format: SNAPSHOT_FORMAT.to_owned(),
@@ -310,8 +231,141 @@ pub async fn build_snapshot(
         performed_by: technician,
         approved_by: issue.approved_by.to_owned(),
         plot,
-        switch: None,
+        switch,
     })
+}
+
+type SensorBlocks = (
+    Vec<ResultRow>,
+    Option<FunctionBlock>,
+    Option<ConformityBlock>,
+    PlotBlock,
+    f64,
+);
+
+/// The per-set-point blocks of a sensor calibration.
+fn sensor_blocks(r: &RunResult, run: &Run, instrument_kind: &str) -> SensorBlocks {
+    let coverage_probability = r
+        .set_points
+        .first()
+        .map_or(0.9545, |s| s.budget.coverage_probability);
+    let rows: Vec<ResultRow> = r
+        .set_points
+        .iter()
+        .map(|sp| {
+            let decimals = decimals_of(&sp.reported.uncertainty_text);
+            ResultRow {
+                nominal_t_c: sp.nominal_c,
+                t_ref_c: sp.mean_t_ref_c,
+                t_uut_c: sp.mean_t_uut_c,
+                deviation_c: sp.mean_deviation_c,
+                correction_c: -sp.mean_deviation_c,
+                expanded_uncertainty_c: sp.reported.expanded_uncertainty.to_f64(),
+                coverage_factor: sp.budget.coverage_factor,
+                coverage_probability: sp.budget.coverage_probability,
+                deviation_emf_mv: sp.mean_deviation_emf_mv,
+                printed: PrintedRow {
+                    t_ref_c: format!("{:.decimals$}", sp.mean_t_ref_c),
+                    t_uut_c: format!("{:.decimals$}", sp.mean_t_uut_c),
+                    deviation_c: sp.reported.value_text.clone(),
+                    correction_c: negate_text(&sp.reported.value_text),
+                    expanded_uncertainty_c: sp.reported.uncertainty_text.clone(),
+                    coverage_factor: format!("{:.2}", sp.budget.coverage_factor),
+                },
+                outcome: sp
+                    .conformity
+                    .as_ref()
+                    .map(|c| c.decision.outcome.label().to_owned()),
+            }
+        })
+        .collect();
+
+    let max_u = rows
+        .iter()
+        .map(|r| r.expanded_uncertainty_c)
+        .fold(0.0, f64::max);
+    let max_k = rows.iter().map(|r| r.coverage_factor).fold(0.0, f64::max);
+    let deviation_function = r.deviation_function.as_ref().map(|f| FunctionBlock {
+        form: "polynomial".to_owned(),
+        variable: "t_c".to_owned(),
+        coefficients: f.coefficients.clone(),
+        covariance: f.covariance.clone(),
+        emf_coefficients: r.emf_deviation_function.as_ref().map(|e| e.coefficients.clone()),
+        valid_from_t_c: f.validity_c.0,
+        valid_to_t_c: f.validity_c.1,
+        expanded_uncertainty_c: max_u,
+        coverage_factor: max_k,
+        usage: format!(
+            "Deviation D(t) = sum of c_i t^i with t the temperature in °C; correct a reading by subtracting D(t). Valid from {:.2} °C to {:.2} °C only; the expanded uncertainty of a corrected reading is {} °C.",
+            f.validity_c.0, f.validity_c.1, rows.iter().map(|r| r.printed.expanded_uncertainty_c.clone()).max_by(|a, b| a.parse::<f64>().unwrap_or(0.0).total_cmp(&b.parse::<f64>().unwrap_or(0.0))).unwrap_or_default()
+        ),
+    });
+
+    let conformity = match (
+        &run.tolerance_class,
+        run.tolerance_limit_c,
+        r.set_points.iter().find_map(|s| s.conformity.as_ref()),
+    ) {
+        (class, limit, Some(first)) => {
+            let specification = match (class, limit, instrument_kind) {
+                (Some(c), _, "thermocouple") if ["standard", "special"].contains(&c.as_str()) => {
+                    format!("ASTM E230 {c} limits")
+                }
+                (Some(c), _, "thermocouple") => format!("IEC 60584-1:2013 class {c}"),
+                (Some(c), _, _) => format!("IEC 60751:2008 class {c}"),
+                (None, Some(l), _) => format!("customer limit ± {l} °C on the deviation"),
+                (None, None, _) => String::new(),
+            };
+            let outcomes: Vec<String> = r
+                .set_points
+                .iter()
+                .map(|s| match &s.conformity {
+                    Some(c) => format!("{:.2} °C: {}", s.nominal_c, c.decision.outcome.label()),
+                    None => format!("{:.2} °C: no statement (the specification does not cover this temperature)", s.nominal_c),
+                })
+                .collect();
+            Some(ConformityBlock {
+                specification,
+                decision_rule: first.decision.statement.clone(),
+                statement: outcomes.join("; "),
+            })
+        }
+        _ => None,
+    };
+
+    let mut plot = PlotBlock::default();
+    for sp in &r.set_points {
+        plot.points.push([
+            sp.mean_t_ref_c,
+            sp.mean_deviation_c,
+            sp.budget.expanded_uncertainty,
+        ]);
+        if let Some(c) = &sp.conformity {
+            if let Some(u) = c.decision.tolerance_limits.upper {
+                plot.tolerance_upper.push([sp.mean_t_ref_c, u]);
+            }
+            if let Some(l) = c.decision.tolerance_limits.lower {
+                plot.tolerance_lower.push([sp.mean_t_ref_c, l]);
+            }
+        }
+    }
+    if let Some(f) = &r.deviation_function {
+        let (lo, hi) = f.validity_c;
+        for i in 0..=40 {
+            let t = lo + (hi - lo) * f64::from(i) / 40.0;
+            if let Ok((v, u)) = f.evaluate(t) {
+                plot.curve.push([t, v, 2.0 * u]);
+            }
+        }
+    }
+
+    (
+        rows,
+        deviation_function,
+        conformity,
+        plot,
+        coverage_probability,
+    )
 }
 
 /// Decimal places of a printed number ("0.012" -> 3).
@@ -335,9 +389,20 @@ fn negate_text(text: &str) -> String {
 ///
 /// # Errors
 /// A records, calculation or database error.
-pub async fn compute(conn: &mut SqliteConnection, run: &Run) -> Result<RunResult, ResultsError> {
+pub async fn compute(conn: &mut SqliteConnection, run: &Run) -> Result<Computed, ResultsError> {
+    let instrument = records::instrument_by_id(conn, run.instrument_id)
+        .await?
+        .ok_or_else(|| ResultsError::Records {
+            field: "instrument".to_owned(),
+            message: "the run's instrument is missing".to_owned(),
+        })?;
+    if instrument.kind == "switch" {
+        return super::switches::certificate_blocks(conn, run).await;
+    }
     let prepared = results::prepare(conn, run).await?;
-    Ok(calib::evaluate_run(&prepared.model)?)
+    Ok(Computed::Sensor(Box::new(calib::evaluate_run(
+        &prepared.model,
+    )?)))
 }
 
 #[cfg(test)]

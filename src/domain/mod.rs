@@ -8,3 +8,4 @@ pub mod coefficients;
 pub mod history;
 pub mod readings;
 pub mod results;
+pub mod switches;

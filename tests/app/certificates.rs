@@ -11,7 +11,7 @@ use sqlx::SqlitePool;
 use crate::records::{Lab, call, lab, token_for};
 
 /// Gives the test lab its identity (a certificate prints it).
-async fn set_up_lab(lab: &Lab) {
+pub async fn set_up_lab(lab: &Lab) {
     let mut conn = lab.pool.acquire().await.expect("conn");
     if juncture::store::lab::get(&mut conn)
         .await

@@ -19,3 +19,4 @@ mod register;
 mod results;
 mod security;
 mod smoke;
+mod switches;

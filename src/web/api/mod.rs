@@ -11,6 +11,7 @@ pub mod register;
 pub mod results;
 pub mod review;
 pub mod runs;
+pub mod switches;
 
 use axum::Router;
 use axum::routing::{get, post, put};
@@ -86,6 +87,12 @@ pub fn routes() -> Router<AppState> {
             post(runs::add_readings),
         )
         .route("/api/v1/runs/{id}/submit", post(runs::submit))
+        .route("/api/v1/runs/{id}/switch", put(switches::put_settings))
+        .route("/api/v1/runs/{id}/ramps", post(switches::add_ramp))
+        .route(
+            "/api/v1/runs/{id}/ramps/{ramp_id}",
+            axum::routing::delete(switches::delete_ramp),
+        )
         .route("/api/v1/runs/{id}/results", get(results::get))
         .route("/api/v1/runs/{id}/approve", post(review::approve))
         .route(

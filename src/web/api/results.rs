@@ -263,11 +263,21 @@ pub async fn get(
     State(state): State<AppState>,
     _caller: Caller,
     Path(id): Path<i64>,
-) -> ApiResult<Json<ResultsOut>> {
+) -> ApiResult<axum::response::Response> {
+    use axum::response::IntoResponse;
     let mut conn = state.db.acquire().await?;
     let run = runs::by_id(&mut conn, id)
         .await?
         .ok_or_else(|| AppError::NotFound(format!("there is no run {id}")))?;
+    let is_switch = crate::store::records::instrument_by_id(&mut conn, run.instrument_id)
+        .await?
+        .is_some_and(|i| i.kind == "switch");
+    if is_switch {
+        let out = crate::domain::switches::results(&mut conn, &run)
+            .await
+            .map_err(results_error)?;
+        return Ok(Json(out).into_response());
+    }
     let prepared = results::prepare(&mut conn, &run)
         .await
         .map_err(results_error)?;
@@ -288,5 +298,6 @@ pub async fn get(
             .as_ref()
             .map(FunctionOut::from),
         warnings: computed.warnings.iter().map(WarningOut::from).collect(),
-    }))
+    })
+    .into_response())
 }

@@ -449,7 +449,7 @@ pub async fn get(
 }
 
 /// Refuses changes to a run the caller may not edit now, and stale edits.
-fn editable(run: &Run, caller: &Caller, version: i64) -> Result<(), AppError> {
+pub fn editable(run: &Run, caller: &Caller, version: i64) -> Result<(), AppError> {
     if !matches!(run.status.as_str(), "open" | "returned") {
         return Err(AppError::Conflict(format!(
             "run {} has been {} and is read-only",
@@ -864,8 +864,19 @@ pub async fn submit_run(
     let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;
     editable(&run, caller, version)?;
+    let instrument = records::instrument_by_id(&mut tx, run.instrument_id)
+        .await?
+        .ok_or_else(|| AppError::Internal("instrument vanished".to_owned()))?;
+    if instrument.kind == "switch" {
+        // A switch test is submitted once its results can be computed.
+        crate::domain::switches::evaluate(&mut tx, &run)
+            .await
+            .map_err(super::results::results_error)?;
+    }
     let set_points = runs::set_points(&mut tx, id).await?;
-    if set_points.is_empty() {
+    if instrument.kind == "switch" {
+        // no set points: the ramps were checked above
+    } else if set_points.is_empty() {
         return Err(AppError::invalid(
             "set_points",
             format!("run {id} has no set points to submit"),
