@@ -604,6 +604,8 @@ pub async fn load(pool: &SqlitePool) -> Result<(), DemoError> {
         .await?;
     }
     demo_runs(&mut tx).await?;
+    demo_media(&mut tx).await?;
+    demo_switches(&mut tx).await?;
     tx.commit().await?;
     Ok(())
 }
@@ -643,7 +645,7 @@ async fn demo_run(
     conn: &mut SqliteConnection,
     technician: i64,
     r: DemoRun<'_>,
-) -> sqlx::Result<()> {
+) -> sqlx::Result<i64> {
     let instrument = records::instrument_by_serial(conn, r.serial)
         .await?
         .ok_or(sqlx::Error::RowNotFound)?;
@@ -728,7 +730,7 @@ async fn demo_run(
         )
         .await?;
     }
-    Ok(())
+    Ok(run.id)
 }
 
 /// Three runs with invented readings, generated from the reference
@@ -847,5 +849,279 @@ async fn demo_runs(conn: &mut SqliteConnection) -> sqlx::Result<()> {
         extra: json!([{"name": "display resolution", "distribution": "rectangular", "value_c": 0.01, "kind": "uut_resolution"}]),
         points, submit: false,
     }).await?;
+    Ok(())
+}
+
+/// Characterisation runs of the three comparison media, with invented
+/// readings: axial profile at 0, 20 and 40 mm, the bores, a 30-minute
+/// stability record and the loading effect at each temperature.
+async fn demo_media(conn: &mut SqliteConnection) -> sqlx::Result<()> {
+    use crate::web::api::media::{
+        CharacterisationRunBody, DepthBody, StabilityBody, TemperatureBody, derive_points,
+        inputs_of,
+    };
+    let admin = accounts::user_by_username(conn, "demo-admin")
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?
+        .id;
+    // (asset, date, [(t, axial gradient over 40 mm, bore spread, stability peak-to-peak, loading)])
+    let media: [(&str, &str, &[(f64, f64, f64, f64, f64)]); 3] = [
+        (
+            "LTM-BATH-07",
+            "2026-09-15",
+            &[
+                (-30.0, 0.006, 0.003, 0.005, 0.002),
+                (0.0, 0.004, 0.002, 0.004, 0.001),
+                (100.0, 0.007, 0.003, 0.006, 0.002),
+                (200.0, 0.012, 0.005, 0.008, 0.004),
+            ],
+        ),
+        (
+            "LTM-FURN-08",
+            "2026-09-15",
+            &[
+                (300.0, 0.35, 0.15, 0.12, 0.10),
+                (600.0, 0.45, 0.20, 0.16, 0.15),
+                (900.0, 0.60, 0.25, 0.22, 0.20),
+                (1200.0, 0.80, 0.30, 0.30, 0.30),
+            ],
+        ),
+        (
+            "LTM-DRY-09",
+            "2026-09-15",
+            &[
+                (-25.0, 0.030, 0.012, 0.012, 0.010),
+                (20.0, 0.010, 0.006, 0.006, 0.004),
+                (80.0, 0.025, 0.010, 0.010, 0.008),
+                (140.0, 0.045, 0.015, 0.016, 0.015),
+            ],
+        ),
+    ];
+    for (asset, date, temps) in media {
+        let body = CharacterisationRunBody {
+            characterised_on: date.to_owned(),
+            temperatures: temps
+                .iter()
+                .map(|&(t, axial, radial, pp, loading)| TemperatureBody {
+                    temperature_c: t,
+                    axial: Some(
+                        [0.0, 20.0, 40.0]
+                            .iter()
+                            .map(|&h| DepthBody {
+                                height_mm: h,
+                                t_c: t - axial * h / 40.0,
+                            })
+                            .collect(),
+                    ),
+                    radial_bores_c: Some(vec![t, t + radial, t + 0.4 * radial, t + 0.7 * radial]),
+                    radial_differences_c: None,
+                    stability: SCATTER
+                        .iter()
+                        .enumerate()
+                        .map(|(i, s)| StabilityBody {
+                            time_s: 360.0 * i as f64,
+                            t_c: t + pp * s,
+                        })
+                        .collect(),
+                    loading_difference_c: Some(-loading),
+                    reference_expanded_c: None,
+                })
+                .collect(),
+        };
+        let demo = |e: crate::web::AppError| sqlx::Error::Protocol(format!("demo media: {e}"));
+        let inputs = inputs_of(&body).map_err(demo)?;
+        let (points, _) = derive_points(asset, date, &inputs).map_err(demo)?;
+        let id = id_of(conn, asset).await?;
+        let input = serde_json::to_string(&body).unwrap_or_default();
+        let run = store::switches::add_characterisation_run(conn, id, date, &input, admin, &points)
+            .await?;
+        note(
+            conn,
+            "medium_characterisation_run",
+            &run.to_string(),
+            json!({"asset_id": asset, "characterised_on": date, "temperatures": points.len()}),
+        )
+        .await?;
+    }
+    Ok(())
+}
+
+/// Two switch tests: a bimetal thermostat opening on rising temperature,
+/// with its ramps recorded reading by reading, and an electronic
+/// low-temperature alarm whose changes were read directly.
+async fn demo_switches(conn: &mut SqliteConnection) -> sqlx::Result<()> {
+    let technician = accounts::user_by_username(conn, "demo-tech")
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?
+        .id;
+    let mut owners = Vec::new();
+    for (name, email) in [
+        (
+            "Hollin Dairy Co-operative (invented)",
+            "engineering@hollin.invalid",
+        ),
+        (
+            "Tarrant Cold Stores (invented)",
+            "facilities@tarrant.invalid",
+        ),
+    ] {
+        let c = records::create_customer(
+            conn,
+            &CustomerFields {
+                name: name.to_owned(),
+                address: String::new(),
+                contact_email: email.to_owned(),
+                contact_phone: String::new(),
+            },
+        )
+        .await?;
+        note(
+            conn,
+            "customer",
+            &c.id.to_string(),
+            serde_json::to_value(&c).unwrap_or_default(),
+        )
+        .await?;
+        owners.push(c.id);
+    }
+    for (serial, description, owner) in [
+        (
+            "HD-TS-0085",
+            "bimetal thermostat, 85 °C, opens on rising temperature",
+            owners[0],
+        ),
+        (
+            "TCS-ES-0018",
+            "electronic low-temperature alarm switch, -18 °C, closes on falling temperature",
+            owners[1],
+        ),
+    ] {
+        let i = records::create_instrument(
+            conn,
+            &InstrumentFields {
+                serial: serial.to_owned(),
+                kind: "switch".to_owned(),
+                tc_type: None,
+                r0_ohm: None,
+                description: description.to_owned(),
+                manufacturer: "Example Controls".to_owned(),
+                model: String::new(),
+                customer_id: owner,
+            },
+        )
+        .await?;
+        note(
+            conn,
+            "instrument",
+            serial,
+            serde_json::to_value(&i).unwrap_or_default(),
+        )
+        .await?;
+    }
+    for (serial, medium, date, nominal, direction, action, tolerance) in [
+        (
+            "HD-TS-0085",
+            "LTM-BATH-07",
+            "2026-11-27",
+            85.0,
+            "rising",
+            "opens",
+            2.0,
+        ),
+        (
+            "TCS-ES-0018",
+            "LTM-DRY-09",
+            "2026-11-28",
+            -18.0,
+            "falling",
+            "closes",
+            1.0,
+        ),
+    ] {
+        let run = demo_run(
+            conn,
+            technician,
+            DemoRun {
+                serial,
+                reference: "LTM-DIG-04",
+                reference_readout: None,
+                uut_readout: None,
+                medium,
+                date,
+                procedure: "LTM-P-21 rev 1 (temperature switches)",
+                rj_method: "not_applicable",
+                tolerance_class: None,
+                tolerance_limit_c: Some(tolerance),
+                decision_rule: "simple",
+                extra: json!([]),
+                points: Vec::new(),
+                submit: false,
+            },
+        )
+        .await?;
+        let settings = store::switches::SwitchSettings {
+            run_id: run,
+            nominal_t_c: nominal,
+            actuation_direction: direction.to_owned(),
+            contact_action: action.to_owned(),
+            ramp_rate_c_per_min: (serial == "HD-TS-0085").then_some(0.5),
+            time_constant_s: (serial == "HD-TS-0085").then_some(15.0),
+            lag_half_width_c: (serial != "HD-TS-0085").then_some(0.05),
+            observed_resolution_c: 0.01,
+        };
+        store::switches::put_settings(conn, &settings).await?;
+        note(
+            conn,
+            "run",
+            &run.to_string(),
+            serde_json::to_value(&settings).unwrap_or_default(),
+        )
+        .await?;
+        if serial == "HD-TS-0085" {
+            // Three cycles: opening near 85.6 °C, closing again near 79.2 °C.
+            for (cycle, s) in SCATTER.iter().take(3).enumerate() {
+                for (dir, from, to, at, before, after) in [
+                    ("rising", 83.0, 87.0, 85.6 + 0.2 * s, "closed", "open"),
+                    ("falling", 81.0, 77.0, 79.2 + 0.2 * s, "open", "closed"),
+                ] {
+                    let step = if to > from { 0.1 } else { -0.1 };
+                    let readings: Vec<(f64, &str)> = (0..=40)
+                        .map(|i| {
+                            let t = ((from + step * f64::from(i)) * 1000.0).round() / 1000.0;
+                            let changed = if step > 0.0 { t > at } else { t < at };
+                            (t, if changed { after } else { before })
+                        })
+                        .collect();
+                    let text = serde_json::to_string(&readings).unwrap_or_default();
+                    store::switches::add_ramp(conn, run, dir, Some(&text), None).await?;
+                    note(
+                        conn,
+                        "run",
+                        &run.to_string(),
+                        json!({"ramp": dir, "cycle": cycle + 1}),
+                    )
+                    .await?;
+                }
+            }
+        } else {
+            for (dir, t) in [
+                ("falling", -18.32),
+                ("rising", -16.85),
+                ("falling", -18.27),
+                ("rising", -16.91),
+                ("falling", -18.35),
+                ("rising", -16.88),
+            ] {
+                store::switches::add_ramp(conn, run, dir, None, Some(t)).await?;
+                note(
+                    conn,
+                    "run",
+                    &run.to_string(),
+                    json!({"ramp": dir, "observed_t_c": t}),
+                )
+                .await?;
+            }
+        }
+    }
     Ok(())
 }

@@ -604,9 +604,46 @@ async fn the_demo_runs_have_results_at_once(pool: SqlitePool) {
         &call(&app, "GET", "/api/v1/runs", Some(&reader), None).await,
         StatusCode::OK,
     );
-    let runs = runs.as_array().expect("runs");
-    assert_eq!(runs.len(), 3);
-    for run in runs {
+    let mut runs = runs.as_array().expect("runs").clone();
+    runs.sort_by_key(|r| r["id"].as_i64());
+    let runs = &runs;
+    assert_eq!(runs.len(), 5, "three sensor runs and two switch tests");
+    let (sensors, switches) = runs.split_at(3);
+    // The switch tests: the thermostat's three cycles were invented to open
+    // at 85.6 + 0.2·(0, 0.6, −0.4) °C, i.e. midway between the 0.1 °C
+    // readings around 85.6, 85.72 and 85.52 °C (hand calculation: mean
+    // 85.6167 °C within the 0.05 °C of the reading step).
+    for (run, nominal) in switches.iter().zip([85.0, -18.0]) {
+        let res = ok(
+            &call(
+                &app,
+                "GET",
+                &format!("/api/v1/runs/{}/results", run["id"]),
+                Some(&reader),
+                None,
+            )
+            .await,
+            StatusCode::OK,
+        );
+        assert_eq!(res["switch"]["nominal_t_c"], nominal, "{res}");
+        if nominal > 0.0 {
+            assert!(
+                (num(&res["switch"]["switch_point"]["value"]["value_c"]) - 85.6167).abs() < 0.05,
+                "{res}"
+            );
+        } else {
+            // Observed directly: (−18.32 − 18.27 − 18.35)/3 = −18.3133 °C.
+            assert!(
+                (num(&res["switch"]["switch_point"]["value"]["value_c"]) + 18.313_333).abs() < 1e-5,
+                "{res}"
+            );
+            assert!(
+                (num(&res["switch"]["reset_point"]["value"]["value_c"]) + 16.88).abs() < 1e-9,
+                "{res}"
+            );
+        }
+    }
+    for run in sensors {
         let res = ok(
             &call(
                 &app,

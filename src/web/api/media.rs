@@ -184,6 +184,63 @@ fn out_of(
     }
 }
 
+/// The half-widths (with how they were derived) and warnings at each
+/// characterised temperature, sorted by temperature.
+///
+/// # Errors
+/// 422 with the calculation's sentence (too few depths or bores, a
+/// stability record out of order, a repeated temperature, ...).
+pub fn derive_points(
+    asset_id: &str,
+    characterised_on: &str,
+    inputs: &[CharacterisationInput],
+) -> Result<(Vec<MediumPointRow>, Vec<Vec<String>>), AppError> {
+    let medium = characterise_medium(asset_id, characterised_on, inputs)
+        .map_err(|e| AppError::invalid("temperatures", e.to_string()))?;
+    let mut order: Vec<usize> = (0..medium.temperatures.len()).collect();
+    order.sort_by(|a, b| {
+        medium.temperatures[*a]
+            .temperature_c
+            .total_cmp(&medium.temperatures[*b].temperature_c)
+    });
+    let mut points = Vec::new();
+    let mut warnings = Vec::new();
+    for i in order {
+        let t = &medium.temperatures[i];
+        let mut derivation = vec![
+            format!("uniformity: {}", t.uniformity.derivation),
+            format!("stability: {}", t.stability.derivation),
+        ];
+        if let Some(l) = &t.loading {
+            derivation.push(format!("loading: {}", l.derivation));
+        }
+        if let Some(n) = &t.reference_note {
+            derivation.push(n.clone());
+        }
+        points.push(MediumPointRow {
+            temperature_c: t.temperature_c,
+            uniformity_half_width_c: t.uniformity.half_width_c,
+            stability_half_width_c: t.stability.half_width_c,
+            loading_half_width_c: t.loading.as_ref().map(|l| l.half_width_c),
+            derivation: derivation.join("; "),
+        });
+        warnings.push(t.warnings.iter().map(|w| w.message.clone()).collect());
+    }
+    Ok((points, warnings))
+}
+
+/// Checks a characterisation body and turns it into the calculation's
+/// input.
+///
+/// # Errors
+/// 422 naming each bad field.
+pub fn inputs_of(body: &CharacterisationRunBody) -> Result<Vec<CharacterisationInput>, AppError> {
+    let mut p = Problems::default();
+    let inputs = inputs(body, &mut p);
+    p.finish()?;
+    Ok(inputs)
+}
+
 /// Records a characterisation run: checks the readings, derives the
 /// half-widths, and stores readings and results with an audit event, all or
 /// nothing.
@@ -217,37 +274,7 @@ pub async fn record_characterisation(
     check_date(&mut p, "characterised_on", &body.characterised_on);
     let inputs = inputs(body, &mut p);
     p.finish()?;
-    let medium = characterise_medium(asset_id, &body.characterised_on, &inputs)
-        .map_err(|e| AppError::invalid("temperatures", e.to_string()))?;
-    let mut order: Vec<usize> = (0..medium.temperatures.len()).collect();
-    order.sort_by(|a, b| {
-        medium.temperatures[*a]
-            .temperature_c
-            .total_cmp(&medium.temperatures[*b].temperature_c)
-    });
-    let mut points = Vec::new();
-    let mut warnings = Vec::new();
-    for i in order {
-        let t = &medium.temperatures[i];
-        let mut derivation = vec![
-            format!("uniformity: {}", t.uniformity.derivation),
-            format!("stability: {}", t.stability.derivation),
-        ];
-        if let Some(l) = &t.loading {
-            derivation.push(format!("loading: {}", l.derivation));
-        }
-        if let Some(n) = &t.reference_note {
-            derivation.push(n.clone());
-        }
-        points.push(MediumPointRow {
-            temperature_c: t.temperature_c,
-            uniformity_half_width_c: t.uniformity.half_width_c,
-            stability_half_width_c: t.stability.half_width_c,
-            loading_half_width_c: t.loading.as_ref().map(|l| l.half_width_c),
-            derivation: derivation.join("; "),
-        });
-        warnings.push(t.warnings.iter().map(|w| w.message.clone()).collect());
-    }
+    let (points, warnings) = derive_points(asset_id, &body.characterised_on, &inputs)?;
     let input = serde_json::to_string(body).map_err(|e| AppError::Internal(e.to_string()))?;
     let id = switches::add_characterisation_run(
         &mut tx,
