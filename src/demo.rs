@@ -865,7 +865,8 @@ async fn demo_media(conn: &mut SqliteConnection) -> sqlx::Result<()> {
         .ok_or(sqlx::Error::RowNotFound)?
         .id;
     // (asset, date, [(t, axial gradient over 40 mm, bore spread, stability peak-to-peak, loading)])
-    let media: [(&str, &str, &[(f64, f64, f64, f64, f64)]); 3] = [
+    type Effects = (f64, f64, f64, f64, f64);
+    let media: [(&str, &str, &[Effects]); 3] = [
         (
             "LTM-BATH-07",
             "2026-09-15",
