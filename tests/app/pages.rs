@@ -849,3 +849,55 @@ async fn markup_in_any_text_field_is_shown_as_text(pool: SqlitePool) {
     assert!(!history.contains("<b>SN-1</b>"), "{history}");
     assert!(history.contains("SN-1"));
 }
+
+#[sqlx::test]
+async fn a_technician_records_switch_ramps_on_the_run_page(pool: SqlitePool) {
+    let mut browser = signed_in(pool, "demo-tech").await;
+    // Demo run 4: the bimetal thermostat, three cycles recorded.
+    let page = browser.get("/runs/4").await.text();
+    assert!(page.contains("Switch test"), "{page}");
+    assert!(page.contains("class=\"switch-point\""), "{page}");
+    assert_eq!(page.matches("41 readings").count(), 6, "{page}");
+    let csrf = hidden(&page, "csrf");
+    let version = hidden(&page, "version");
+    // A pasted ramp with a mistyped state is refused, naming the line.
+    let bad = browser
+        .post_form(
+            "/runs/4/ramps",
+            &[
+                ("csrf", &csrf),
+                ("version", &version),
+                ("direction", "rising"),
+                ("lines", "85,2 closed\n85,4 opne\n"),
+            ],
+        )
+        .await
+        .text();
+    assert!(
+        bad.contains("line 2: &#34;opne&#34; is not a contact state"),
+        "{bad}"
+    );
+    // A good one is added (decimal commas accepted) and listed.
+    let done = browser
+        .post_form(
+            "/runs/4/ramps",
+            &[
+                ("csrf", &csrf),
+                ("version", &version),
+                ("direction", "rising"),
+                (
+                    "lines",
+                    "84,8 closed\n85,0 closed\n85,2 closed\n85,4 open\n85,6 open\n86,2 open\n",
+                ),
+            ],
+        )
+        .await;
+    assert_eq!(done.status, StatusCode::SEE_OTHER, "{}", done.text());
+    let page = browser.get("/runs/4").await.text();
+    assert!(
+        page.contains("6 readings, 84.8 °C (closed) to 86.2 °C (open)"),
+        "{page}"
+    );
+    // The new ramp's change at 85.3 °C joins the switch-point mean.
+    assert!(page.contains("<h3>Results</h3>"));
+}

@@ -318,19 +318,20 @@ pub async fn add_ramp(
     ))
 }
 
-/// `DELETE /api/v1/runs/{id}/ramps/{ramp_id}?version=N`.
-pub async fn delete_ramp(
-    State(state): State<AppState>,
-    caller: Caller,
-    Path((id, ramp_id)): Path<(i64, i64)>,
-    Query(q): Query<VersionQuery>,
-) -> ApiResult<StatusCode> {
+/// Removes a ramp from an open switch run (kept in the audit trail).
+///
+/// # Errors
+/// 403, 404, 409.
+pub async fn delete_ramp_of(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    id: i64,
+    ramp_id: i64,
+    version: i64,
+) -> ApiResult<()> {
     caller.may_change(RUN_ROLES, "changing runs")?;
-    let version = q.version.ok_or_else(|| {
-        AppError::invalid("version", "give the run version you loaded as ?version=N")
-    })?;
-    let mut tx = store::begin_write(&state.db).await?;
-    let run = switch_run(&mut tx, &caller, id, version).await?;
+    let mut tx = store::begin_write(db).await?;
+    let run = switch_run(&mut tx, caller, id, version).await?;
     let before = switches::ramps(&mut tx, id)
         .await?
         .into_iter()
@@ -341,7 +342,7 @@ pub async fn delete_ramp(
     runs::touch(&mut tx, id, run.version).await?;
     record(
         &mut tx,
-        &caller,
+        caller,
         "delete_ramp",
         "run",
         &id.to_string(),
@@ -352,5 +353,79 @@ pub async fn delete_ramp(
     )
     .await?;
     tx.commit().await?;
+    Ok(())
+}
+
+/// `DELETE /api/v1/runs/{id}/ramps/{ramp_id}?version=N`.
+pub async fn delete_ramp(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path((id, ramp_id)): Path<(i64, i64)>,
+    Query(q): Query<VersionQuery>,
+) -> ApiResult<StatusCode> {
+    let version = q.version.ok_or_else(|| {
+        AppError::invalid("version", "give the run version you loaded as ?version=N")
+    })?;
+    delete_ramp_of(&state.db, &caller, id, ramp_id, version).await?;
     Ok(StatusCode::NO_CONTENT)
+}
+
+/// Reads ramp readings typed or pasted one per line: a temperature in °C
+/// and the contact state (`open`/`closed`, or `o`/`c`), separated by
+/// spaces, tabs or a semicolon; a decimal comma is accepted. Blank lines
+/// and lines starting with `#` are skipped.
+///
+/// # Errors
+/// 422 naming the line and what was wrong.
+pub fn parse_ramp_lines(text: &str) -> Result<Vec<StateReadingBody>, AppError> {
+    let mut out = Vec::new();
+    let mut p = Problems::default();
+    for (i, line) in text.lines().enumerate() {
+        let line = line.trim();
+        if line.is_empty() || line.starts_with('#') {
+            continue;
+        }
+        let parts: Vec<&str> = line
+            .split(|c: char| c == ';' || c == '\t' || c == ' ')
+            .filter(|s| !s.is_empty())
+            .collect();
+        let field = format!("lines[{}]", i + 1);
+        if parts.len() != 2 {
+            p.add(
+                &field,
+                format!(
+                    "line {}: write a temperature and a state (open or closed); got {line:?}",
+                    i + 1
+                ),
+            );
+            continue;
+        }
+        let Ok(t) = parts[0].replace(',', ".").parse::<f64>() else {
+            p.add(
+                &field,
+                format!("line {}: {:?} is not a temperature in °C", i + 1, parts[0]),
+            );
+            continue;
+        };
+        let state = match parts[1].to_ascii_lowercase().as_str() {
+            "open" | "o" => "open",
+            "closed" | "c" => "closed",
+            other => {
+                p.add(
+                    &field,
+                    format!(
+                        "line {}: {other:?} is not a contact state; write open or closed",
+                        i + 1
+                    ),
+                );
+                continue;
+            }
+        };
+        out.push(StateReadingBody {
+            t_ref_c: t,
+            state: state.to_owned(),
+        });
+    }
+    p.finish()?;
+    Ok(out)
 }

@@ -42,6 +42,15 @@ pub fn routes() -> Router<AppState> {
             axum::routing::post(runs::delete_set_point),
         )
         .route("/runs/{id}/submit", axum::routing::post(runs::submit))
+        .route(
+            "/runs/{id}/switch",
+            axum::routing::post(runs::switch_settings),
+        )
+        .route("/runs/{id}/ramps", axum::routing::post(runs::add_ramp))
+        .route(
+            "/runs/{id}/ramps/{ramp_id}/delete",
+            axum::routing::post(runs::delete_ramp),
+        )
         .route("/runs/{id}/approve", axum::routing::post(review::approve))
         .route(
             "/runs/{id}/return",

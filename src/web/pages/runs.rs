@@ -579,6 +579,107 @@ struct RunPage {
     certificate: Option<String>,
     /// Equipment used and its state on the run date.
     equipment_rows: Vec<EquipmentRow>,
+    /// The switch test, for runs of a temperature switch.
+    switch: Option<SwitchView>,
+}
+
+/// A switch run's settings, ramps and results as the run page shows them.
+#[derive(Debug)]
+struct SwitchView {
+    nominal: String,
+    rising: bool,
+    opens: bool,
+    rate: String,
+    tau: String,
+    lag: String,
+    resolution: String,
+    ramps: Vec<RampLine>,
+    results: Option<crate::report::snapshot::SwitchBlock>,
+    error: Option<String>,
+}
+
+/// One ramp in the list.
+#[derive(Debug)]
+struct RampLine {
+    id: i64,
+    position: i64,
+    direction: String,
+    summary: String,
+}
+
+fn opt_text(v: Option<f64>) -> String {
+    v.map_or_else(String::new, |v| v.to_string())
+}
+
+async fn switch_view(
+    conn: &mut sqlx::SqliteConnection,
+    run: &crate::store::runs::Run,
+) -> Result<SwitchView, AppError> {
+    let settings = crate::store::switches::settings(conn, run.id).await?;
+    let ramps = crate::store::switches::ramps(conn, run.id)
+        .await?
+        .into_iter()
+        .map(|r| {
+            let summary = match (&r.readings, r.observed_t_c) {
+                (Some(text), _) => {
+                    let rows: Vec<(f64, String)> = serde_json::from_str(text).unwrap_or_default();
+                    match (rows.first(), rows.last()) {
+                        (Some(a), Some(b)) => format!(
+                            "{} readings, {} °C ({}) to {} °C ({})",
+                            rows.len(),
+                            a.0,
+                            a.1,
+                            b.0,
+                            b.1
+                        ),
+                        _ => "no readings".to_owned(),
+                    }
+                }
+                (None, Some(t)) => format!("change observed at {t} °C"),
+                (None, None) => String::new(),
+            };
+            RampLine {
+                id: r.id,
+                position: r.position,
+                direction: r.direction,
+                summary,
+            }
+        })
+        .collect();
+    let (results, error) = if settings.is_some() {
+        match crate::domain::switches::results(conn, run).await {
+            Ok(out) => (Some(out.switch), None),
+            Err(e) => (None, Some(e.to_string())),
+        }
+    } else {
+        (
+            None,
+            Some(
+                "Give the nominal switch point and what the switch does, then record the ramps."
+                    .to_owned(),
+            ),
+        )
+    };
+    Ok(SwitchView {
+        nominal: settings
+            .as_ref()
+            .map_or_else(String::new, |s| s.nominal_t_c.to_string()),
+        rising: settings
+            .as_ref()
+            .is_none_or(|s| s.actuation_direction == "rising"),
+        opens: settings
+            .as_ref()
+            .is_none_or(|s| s.contact_action == "opens"),
+        rate: opt_text(settings.as_ref().and_then(|s| s.ramp_rate_c_per_min)),
+        tau: opt_text(settings.as_ref().and_then(|s| s.time_constant_s)),
+        lag: opt_text(settings.as_ref().and_then(|s| s.lag_half_width_c)),
+        resolution: settings
+            .as_ref()
+            .map_or_else(String::new, |s| s.observed_resolution_c.to_string()),
+        ramps,
+        results,
+        error,
+    })
 }
 
 /// One equipment item of a run as it stood on the run date.
@@ -838,17 +939,27 @@ async fn run_render(
         });
     }
 
+    let switch = if instrument.kind == "switch" {
+        Some(switch_view(&mut conn, &run).await.map_err(PageError)?)
+    } else {
+        None
+    };
+
     // Results (a failure is shown, not fatal).
-    let (computed, results_error) = match results::prepare(&mut conn, &run).await {
-        Ok(prepared) => {
-            let model = prepared.model;
-            match tokio::task::spawn_blocking(move || calib::evaluate_run(&model)).await {
-                Ok(Ok(r)) => (Some(r), None),
-                Ok(Err(e)) => (None, Some(e.to_string())),
-                Err(e) => (None, Some(format!("the calculation failed: {e}"))),
+    let (computed, results_error) = if switch.is_some() {
+        (None, None)
+    } else {
+        match results::prepare(&mut conn, &run).await {
+            Ok(prepared) => {
+                let model = prepared.model;
+                match tokio::task::spawn_blocking(move || calib::evaluate_run(&model)).await {
+                    Ok(Ok(r)) => (Some(r), None),
+                    Ok(Err(e)) => (None, Some(e.to_string())),
+                    Err(e) => (None, Some(format!("the calculation failed: {e}"))),
+                }
             }
+            Err(e) => (None, Some(e.to_string())),
         }
-        Err(e) => (None, Some(e.to_string())),
     };
     let set_point_rows = runs::set_points(&mut conn, id)
         .await
@@ -917,6 +1028,7 @@ async fn run_render(
         reviewable,
         certificate,
         equipment_rows,
+        switch,
         nav: Nav::of(Some(user)),
         csrf: user.csrf.clone(),
         run_id: id,
@@ -1201,6 +1313,146 @@ pub async fn submit(
             Ok(run_render(&state, &user, id, None, map, String::new())
                 .await?
                 .into_response())
+        }
+    }
+}
+
+fn optional_number(
+    values: &HashMap<String, String>,
+    name: &str,
+    errors: &mut Vec<FieldError>,
+) -> Option<f64> {
+    match values.get(name).map(|v| v.trim()).filter(|v| !v.is_empty()) {
+        None => None,
+        Some(v) => match v.replace(',', ".").parse::<f64>() {
+            Ok(x) => Some(x),
+            Err(_) => {
+                errors.push(FieldError::new(name, format!("{v:?} is not a number")));
+                None
+            }
+        },
+    }
+}
+
+async fn switch_error(
+    state: &AppState,
+    user: &PageUser,
+    id: i64,
+    key: &str,
+    errors: &[FieldError],
+) -> Result<Response, PageError> {
+    let text = errors
+        .iter()
+        .map(|e| format!("{}: {}", e.field, e.message))
+        .collect::<Vec<_>>()
+        .join("; ");
+    let mut map = HashMap::new();
+    map.insert(key.to_owned(), text);
+    Ok(run_render(state, user, id, None, map, String::new())
+        .await?
+        .into_response())
+}
+
+/// `POST /runs/{id}/switch`: the switch-test settings.
+pub async fn switch_settings(
+    State(state): State<AppState>,
+    user: PageUser,
+    Path(id): Path<i64>,
+    Form(values): Form<HashMap<String, String>>,
+) -> Result<Response, PageError> {
+    use crate::web::api::switches::{SettingsBody, put_settings_of};
+    user.check_csrf(values.get("csrf").map_or("", String::as_str))?;
+    let mut errors = Vec::new();
+    let nominal = optional_number(&values, "nominal_t_c", &mut errors);
+    let body = SettingsBody {
+        version: version_of(&values),
+        nominal_t_c: nominal.unwrap_or(f64::NAN),
+        actuation_direction: values
+            .get("actuation_direction")
+            .cloned()
+            .unwrap_or_default(),
+        contact_action: values.get("contact_action").cloned().unwrap_or_default(),
+        ramp_rate_c_per_min: optional_number(&values, "ramp_rate_c_per_min", &mut errors),
+        time_constant_s: optional_number(&values, "time_constant_s", &mut errors),
+        lag_half_width_c: optional_number(&values, "lag_half_width_c", &mut errors),
+        observed_resolution_c: optional_number(&values, "observed_resolution_c", &mut errors),
+    };
+    if !errors.is_empty() {
+        return switch_error(&state, &user, id, "switch", &errors).await;
+    }
+    match put_settings_of(&state.db, &user.caller(), id, &body).await {
+        Ok(_) => Ok(Redirect::to(&format!("/runs/{id}")).into_response()),
+        Err(e) => {
+            let errors = field_errors(e)?;
+            switch_error(&state, &user, id, "switch", &errors).await
+        }
+    }
+}
+
+/// `POST /runs/{id}/ramps`: a ramp typed or pasted as lines, or one
+/// observed change.
+pub async fn add_ramp(
+    State(state): State<AppState>,
+    user: PageUser,
+    Path(id): Path<i64>,
+    Form(values): Form<HashMap<String, String>>,
+) -> Result<Response, PageError> {
+    use crate::web::api::switches::{RampBody, add_ramp_to, parse_ramp_lines};
+    user.check_csrf(values.get("csrf").map_or("", String::as_str))?;
+    let mut errors = Vec::new();
+    let observed = optional_number(&values, "observed_t_c", &mut errors);
+    let lines = values.get("lines").map_or("", String::as_str);
+    let readings = if lines.trim().is_empty() {
+        None
+    } else {
+        match parse_ramp_lines(lines) {
+            Ok(r) => Some(r),
+            Err(AppError::Invalid { errors: e, .. }) => {
+                errors.extend(e);
+                None
+            }
+            Err(e) => return Err(e.into()),
+        }
+    };
+    if !errors.is_empty() {
+        return switch_error(&state, &user, id, "ramp", &errors).await;
+    }
+    let body = RampBody {
+        version: version_of(&values),
+        direction: values.get("direction").cloned().unwrap_or_default(),
+        readings,
+        observed_t_c: observed,
+    };
+    match add_ramp_to(&state.db, &user.caller(), id, &body).await {
+        Ok(_) => Ok(Redirect::to(&format!("/runs/{id}")).into_response()),
+        Err(e) => {
+            let errors = field_errors(e)?;
+            switch_error(&state, &user, id, "ramp", &errors).await
+        }
+    }
+}
+
+/// `POST /runs/{id}/ramps/{ramp_id}/delete`.
+pub async fn delete_ramp(
+    State(state): State<AppState>,
+    user: PageUser,
+    Path((id, ramp_id)): Path<(i64, i64)>,
+    Form(values): Form<HashMap<String, String>>,
+) -> Result<Response, PageError> {
+    user.check_csrf(values.get("csrf").map_or("", String::as_str))?;
+    match crate::web::api::switches::delete_ramp_of(
+        &state.db,
+        &user.caller(),
+        id,
+        ramp_id,
+        version_of(&values),
+    )
+    .await
+    {
+        Ok(()) => Ok(Redirect::to(&format!("/runs/{id}")).into_response()),
+        Err(e) => {
+            let errors = field_errors(e)?;
+            switch_error(&state, &user, id, "ramp", &errors).await
         }
     }
 }
