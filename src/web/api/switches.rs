@@ -386,7 +386,7 @@ pub fn parse_ramp_lines(text: &str) -> Result<Vec<StateReadingBody>, AppError> {
             continue;
         }
         let parts: Vec<&str> = line
-            .split(|c: char| c == ';' || c == '\t' || c == ' ')
+            .split([';', '\t', ' '])
             .filter(|s| !s.is_empty())
             .collect();
         let field = format!("lines[{}]", i + 1);
