@@ -21,7 +21,7 @@ use printpdf::{
 };
 use printpdf::{FontId, PdfDocumentInfo};
 
-use super::snapshot::{CertificateSnapshot, PlotBlock, ResultRow};
+use super::snapshot::{CertificateSnapshot, PlotBlock, ResultRow, SwitchBlock, SwitchPointBlock};
 
 static FONT_REGULAR: &[u8] = include_bytes!("../../static/fonts/DejaVuSans.ttf");
 static FONT_BOLD: &[u8] = include_bytes!("../../static/fonts/DejaVuSans-Bold.ttf");
@@ -69,6 +69,9 @@ const RIGHT: f32 = PAGE_W - MARGIN_X;
 
 /// Width of the label column of label/value rows.
 const KV_LABEL_W: f32 = 150.0;
+
+/// Indent of the text of a bulleted paragraph.
+const BULLET_INDENT: f32 = 14.0;
 
 // Type sizes.
 const BODY: f32 = 9.0;
@@ -378,6 +381,16 @@ fn fmt_trim(v: f64, decimals: usize) -> String {
     if s == "-0" { "0".to_string() } else { s }
 }
 
+/// Fixed decimals, keeping trailing zeros; no negative zero.
+fn fmt_fixed(v: f64, decimals: usize) -> String {
+    let s = format!("{v:.decimals$}");
+    if s.starts_with('-') && s.chars().all(|c| matches!(c, '-' | '0' | '.')) {
+        s[1..].to_string()
+    } else {
+        s
+    }
+}
+
 /// Rounded to `sig` significant digits, keeping the trailing zeros that
 /// carry the resolution (0.030, not 0.03).
 fn fmt_sig(v: f64, sig: i32) -> String {
@@ -442,6 +455,97 @@ fn or_dash(v: &str) -> String {
     } else {
         v.to_string()
     }
+}
+
+/// The fewest decimals (at most `max`) that show every value of a column
+/// exactly, so that a column of observations lines up on its decimal point.
+fn column_decimals(values: &[f64], max: usize) -> usize {
+    (0..max)
+        .find(|&d| {
+            let scale = 10f64.powi(i32::try_from(d).unwrap_or(0));
+            values
+                .iter()
+                .all(|v| ((v * scale).round() - v * scale).abs() < 1e-6)
+        })
+        .unwrap_or(max)
+}
+
+/// One row of the switch results as printed: what, direction, n, value, U,
+/// k, s (°C).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub(crate) struct SwitchRowText {
+    pub quantity: &'static str,
+    pub direction: String,
+    pub n: String,
+    pub value: String,
+    pub uncertainty: String,
+    pub k: String,
+    pub std_dev: String,
+}
+
+/// One observed state change as printed.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub(crate) struct SwitchChangeText {
+    pub ramp: String,
+    pub direction: String,
+    pub t_c: String,
+    pub new_state: String,
+}
+
+/// The printed rows of switch point, reset point and differential (the
+/// PDF and the HTML page print the same strings).
+pub(crate) fn switch_rows(sw: &SwitchBlock) -> Vec<SwitchRowText> {
+    let point = |quantity: &'static str, p: &SwitchPointBlock| SwitchRowText {
+        quantity,
+        direction: or_dash(&p.direction),
+        n: p.n.to_string(),
+        value: or_dash(&p.value.printed_value_c),
+        uncertainty: or_dash(&p.value.printed_uncertainty_c),
+        k: format!("{:.2}", p.value.coverage_factor),
+        std_dev: p
+            .std_dev_c
+            .map_or_else(|| "—".to_string(), |s| fmt_sig(s, 2)),
+    };
+    let mut rows = vec![point("Switch point", &sw.switch_point)];
+    if let Some(r) = &sw.reset_point {
+        rows.push(point("Reset point", r));
+    }
+    if let Some(d) = &sw.differential {
+        rows.push(SwitchRowText {
+            quantity: "Differential",
+            direction: "—".to_string(),
+            n: "—".to_string(),
+            value: or_dash(&d.printed_value_c),
+            uncertainty: or_dash(&d.printed_uncertainty_c),
+            k: format!("{:.2}", d.coverage_factor),
+            std_dev: "—".to_string(),
+        });
+    }
+    rows
+}
+
+/// The observed state changes as printed, temperatures with one number of
+/// decimals for the whole column.
+pub(crate) fn switch_changes(sw: &SwitchBlock) -> Vec<SwitchChangeText> {
+    let temps: Vec<f64> = sw.changes.iter().map(|c| c.t_c).collect();
+    let d = column_decimals(&temps, 3);
+    sw.changes
+        .iter()
+        .map(|c| SwitchChangeText {
+            ramp: c.ramp.to_string(),
+            direction: or_dash(&c.direction),
+            t_c: fmt_fixed(c.t_c, d),
+            new_state: c
+                .new_state
+                .as_deref()
+                .map_or_else(|| "—".to_string(), or_dash),
+        })
+        .collect()
+}
+
+/// The nominal switch point as printed, e.g. "85 °C".
+pub(crate) fn switch_nominal(sw: &SwitchBlock) -> String {
+    format!("{} °C", fmt_trim(sw.nominal_t_c, 3))
 }
 
 // ---------------------------------------------------------------------------
@@ -623,6 +727,72 @@ impl<'a> Layout<'a> {
         }
     }
 
+    /// An unnumbered heading inside a section, kept together with `keep`
+    /// points of what follows it.
+    fn subheading(&mut self, title: &str, keep: f32) {
+        self.gap(9.0);
+        self.ensure(BODY * 1.7 + keep);
+        let fonts = self.fonts;
+        let base = self.y + BODY;
+        self.page().text(
+            fonts,
+            MARGIN_X,
+            base,
+            Face::Bold,
+            BODY,
+            ACCENT,
+            Align::Left,
+            title,
+        );
+        self.y += BODY * 1.7;
+    }
+
+    /// Height of a [`Self::bullets`] list.
+    fn bullets_height(&self, items: &[String]) -> f32 {
+        let lh = BODY * LEADING;
+        items
+            .iter()
+            .map(|t| {
+                self.fonts
+                    .wrap(Face::Regular, BODY, t, CONTENT_W - BULLET_INDENT)
+                    .len() as f32
+                    * lh
+                    + 3.0
+            })
+            .sum()
+    }
+
+    /// A list of paragraphs, each with a bullet and a hanging indent.
+    fn bullets(&mut self, items: &[String]) {
+        let lh = BODY * LEADING;
+        for (i, t) in items.iter().enumerate() {
+            if i > 0 {
+                self.gap(3.0);
+            }
+            self.ensure(lh);
+            let fonts = self.fonts;
+            let base = self.y + BODY;
+            self.page().text(
+                fonts,
+                MARGIN_X + 3.0,
+                base,
+                Face::Bold,
+                BODY,
+                ACCENT,
+                Align::Left,
+                "•",
+            );
+            self.paragraph_at(
+                MARGIN_X + BULLET_INDENT,
+                CONTENT_W - BULLET_INDENT,
+                t,
+                Face::Regular,
+                BODY,
+                INK,
+            );
+        }
+    }
+
     /// Height of a [`Self::key_values`] block.
     fn key_values_height(&self, rows: &[(&str, String)]) -> f32 {
         let lh = BODY * LEADING;
@@ -650,13 +820,21 @@ impl<'a> Layout<'a> {
 
     /// Label/value rows; values wrap, multi-line values keep their lines.
     fn key_values(&mut self, rows: &[(&str, String)]) {
+        self.key_values_emphasised(rows, None);
+    }
+
+    /// [`Self::key_values`] with the value of row `bold` set in bold.
+    fn key_values_emphasised(&mut self, rows: &[(&str, String)], bold: Option<usize>) {
         const LABEL_W: f32 = KV_LABEL_W;
         let lh = BODY * LEADING;
-        for (label, value) in rows {
+        for (row, (label, value)) in rows.iter().enumerate() {
+            let face = if bold == Some(row) {
+                Face::Bold
+            } else {
+                Face::Regular
+            };
             let label_lines = self.fonts.wrap(Face::Regular, BODY, label, LABEL_W - 10.0);
-            let value_lines = self
-                .fonts
-                .wrap(Face::Regular, BODY, value, CONTENT_W - LABEL_W);
+            let value_lines = self.fonts.wrap(face, BODY, value, CONTENT_W - LABEL_W);
             let n = label_lines.len().max(value_lines.len());
             // Short rows stay together; long ones may break between lines.
             self.ensure(lh * n.min(4) as f32 + 3.0);
@@ -682,7 +860,7 @@ impl<'a> Layout<'a> {
                         fonts,
                         MARGIN_X + LABEL_W,
                         base,
-                        Face::Regular,
+                        face,
                         BODY,
                         INK,
                         Align::Left,
@@ -1023,6 +1201,20 @@ fn coverage_statement(s: &CertificateSnapshot) -> (Option<usize>, String) {
     {
         return (Some(i), s.statements[i].clone());
     }
+    if let (true, Some(sw)) = (s.results.is_empty(), &s.switch) {
+        let ks: BTreeSet<String> = switch_rows(sw).into_iter().map(|r| r.k).collect();
+        let k = match ks.iter().next() {
+            Some(k) if ks.len() == 1 => format!("k = {k}"),
+            _ => "k given with it".to_string(),
+        };
+        return (
+            None,
+            format!(
+                "The expanded uncertainty U is the standard uncertainty multiplied by the \
+                 coverage factor {k}."
+            ),
+        );
+    }
     let ks: Vec<String> = s
         .results
         .iter()
@@ -1051,6 +1243,89 @@ fn coverage_statement(s: &CertificateSnapshot) -> (Option<usize>, String) {
              probability of {p}."
         ),
     )
+}
+
+/// What n and s mean, printed under the switch results (PDF and HTML).
+pub(crate) const SWITCH_LEGEND: &str = "Switch and reset points are the means of the n state \
+                                        changes in their direction; s is the experimental \
+                                        standard deviation of those changes.";
+
+/// Switch point, reset point and differential, the observed state changes
+/// and the notes of a temperature-switch test.
+fn switch_section(lay: &mut Layout<'_>, coverage: Option<&str>) {
+    let Some(sw) = &lay.s.switch else {
+        return;
+    };
+    let mut facts: Vec<(&str, String)> = vec![
+        ("Nominal switch point", switch_nominal(sw)),
+        ("Actuation", or_dash(&sw.actuation)),
+        ("Test method", or_dash(&sw.method)),
+    ];
+    let mut outcome_row = None;
+    if let Some(o) = &sw.outcome {
+        outcome_row = Some(facts.len());
+        facts.push(("Switch point against tolerance", or_dash(o)));
+    }
+    let cols = [
+        col("Quantity", 1.3, Align::Left),
+        col("Direction", 0.95, Align::Left),
+        col("n", 0.45, Align::Right),
+        col("Value (°C)", 1.0, Align::Right),
+        col("U (°C)", 0.85, Align::Right),
+        col("k", 0.6, Align::Right),
+        col("s (°C)", 0.85, Align::Right),
+    ];
+    let rows: Vec<Vec<String>> = switch_rows(sw)
+        .into_iter()
+        .map(|r| {
+            vec![
+                r.quantity.to_string(),
+                r.direction,
+                r.n,
+                r.value,
+                r.uncertainty,
+                r.k,
+                r.std_dev,
+            ]
+        })
+        .collect();
+    let keep =
+        lay.key_values_height(&facts) + 6.0 + lay.measure_table(&cols, &rows, CONTENT_W).keep();
+    lay.heading("Switch test results", keep);
+    lay.key_values_emphasised(&facts, outcome_row);
+    lay.gap(6.0);
+    lay.table(&cols, &rows, CONTENT_W);
+    lay.gap(6.0);
+    let mut legend = SWITCH_LEGEND.to_string();
+    if let Some(c) = coverage {
+        legend = format!("{c} {legend}");
+    }
+    lay.paragraph(&legend, Face::Regular, SMALL + 0.4, MUTED);
+
+    if !sw.changes.is_empty() {
+        let cols = [
+            col("Ramp", 0.7, Align::Right),
+            col("Direction", 1.1, Align::Left),
+            col("Temperature (°C)", 1.3, Align::Right),
+            col("New state", 1.1, Align::Left),
+        ];
+        let rows: Vec<Vec<String>> = switch_changes(sw)
+            .into_iter()
+            .map(|c| vec![c.ramp, c.direction, c.t_c, c.new_state])
+            .collect();
+        let w = CONTENT_W * 0.62;
+        let keep = lay.measure_table(&cols, &rows, w).keep();
+        lay.subheading("Observed state changes, in test order", keep);
+        lay.table(&cols, &rows, w);
+    }
+
+    if !sw.notes.is_empty() {
+        let keep = lay
+            .bullets_height(&sw.notes)
+            .min((CONTENT_BOTTOM - MARGIN_TOP) * 0.2);
+        lay.subheading("Notes", keep);
+        lay.bullets(&sw.notes);
+    }
 }
 
 fn function_section(lay: &mut Layout<'_>) {
@@ -1220,11 +1495,6 @@ fn plot_section(lay: &mut Layout<'_>, plot: &PlotBlock) {
     const TOP_GUTTER: f32 = 16.0;
     const BOTTOM_GUTTER: f32 = 34.0;
     const LEGEND_H: f32 = 18.0;
-    lay.heading(
-        "Deviation plot",
-        TOP_GUTTER + PLOT_H + BOTTOM_GUTTER + LEGEND_H,
-    );
-
     let mut xs: Vec<f64> = Vec::new();
     let mut ys: Vec<f64> = Vec::new();
     for p in &plot.points {
@@ -1247,9 +1517,14 @@ fn plot_section(lay: &mut Layout<'_>, plot: &PlotBlock) {
     };
     let (x_min, x_max) = finite(&xs);
     let (y_min, y_max) = finite(&ys);
+    // No finite point or curve sample: nothing to draw, so no heading.
     if !x_min.is_finite() || !y_min.is_finite() {
         return;
     }
+    lay.heading(
+        "Deviation plot",
+        TOP_GUTTER + PLOT_H + BOTTOM_GUTTER + LEGEND_H,
+    );
     let ax = axis(x_min, x_max, 7.0, 1.0, 0.03);
     let ay = axis(y_min.min(0.0), y_max.max(0.0), 6.0, 0.05, 0.06);
 
@@ -1551,21 +1826,25 @@ pub fn render_pdf(s: &CertificateSnapshot) -> Result<Vec<u8>, PdfError> {
     cond.push(("Results given", or_dash(&c.condition)));
     lay.kv_section("Conditions", &cond);
 
-    let (used_statement, coverage) = coverage_statement(s);
-    if s.results.is_empty() {
-        lay.heading("Results", 30.0);
-        lay.paragraph("No set points were measured.", Face::Regular, BODY, INK);
-    } else {
+    let (mut used_statement, coverage) = coverage_statement(s);
+    // A switch test has no set points: its own section takes the place of
+    // the results, and the set-point sections are left out.
+    switch_section(&mut lay, s.results.is_empty().then_some(coverage.as_str()));
+    if !s.results.is_empty() {
         let (cols, rows) = results_table(&s.results);
         let keep = lay.measure_table(&cols, &rows, CONTENT_W).keep();
         lay.heading("Results", keep);
         lay.table(&cols, &rows, CONTENT_W);
         lay.gap(6.0);
         lay.paragraph(&coverage, Face::Regular, SMALL + 0.4, MUTED);
+        plot_section(&mut lay, &s.plot);
+        function_section(&mut lay);
+    } else if s.switch.is_none() {
+        lay.heading("Results", 30.0);
+        lay.paragraph("No set points were measured.", Face::Regular, BODY, INK);
+        // The coverage statement was printed nowhere: keep it with the others.
+        used_statement = None;
     }
-
-    plot_section(&mut lay, &s.plot);
-    function_section(&mut lay);
 
     if let Some(conf) = &s.conformity {
         lay.kv_section(
@@ -1753,11 +2032,11 @@ pub fn render_pdf(s: &CertificateSnapshot) -> Result<Vec<u8>, PdfError> {
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
     use crate::report::snapshot::{
         ConditionsBlock, ConformityBlock, CustomerBlock, DatesBlock, FunctionBlock, ItemBlock,
-        LabBlock, PrintedRow, SNAPSHOT_FORMAT, TraceRow,
+        LabBlock, PrintedRow, SNAPSHOT_FORMAT, SwitchChange, SwitchValue, TraceRow,
     };
     #[cfg(feature = "system-tests")]
     use std::process::Command;
@@ -1931,6 +2210,117 @@ mod tests {
             },
             switch: None,
         }
+    }
+
+    const SWITCH_NOTES: [&str; 2] = [
+        "The switch was cycled twice before the recorded ramps to settle the bimetal disc; \
+         those cycles are not part of the results.",
+        "Contact resistance < 50 mΩ when closed, checked at 20 °C before and after the test.",
+    ];
+
+    fn switch_value(value: f64, u: f64, printed: &str, printed_u: &str) -> SwitchValue {
+        SwitchValue {
+            value_c: value,
+            expanded_uncertainty_c: u,
+            coverage_factor: 2.0,
+            printed_value_c: printed.to_string(),
+            printed_uncertainty_c: printed_u.to_string(),
+        }
+    }
+
+    /// A temperature-switch certificate: a bimetal thermostat, nominal 85 °C,
+    /// opening on rising temperature, three rising and three falling ramps.
+    /// All data here are invented for the test.
+    pub(crate) fn switch_snapshot() -> CertificateSnapshot {
+        let mut s = snapshot();
+        s.number = "LTM-2025-0562".to_string();
+        s.customer = CustomerBlock {
+            name: "Oakhollow Dairy Cooperative".to_string(),
+            address: "Engineering Stores, Creamery Road\nOakhollow OH4 2DN".to_string(),
+        };
+        s.item = ItemBlock {
+            serial: "ODC-TS-4471".to_string(),
+            kind: "bimetal thermostat, normally closed".to_string(),
+            description: "Snap-disc thermostat in a brass housing with a G1/2 thread, \
+                          silver contacts, tested as received"
+                .to_string(),
+            manufacturer: "Harrowgate Controls".to_string(),
+            model: "HC-D85".to_string(),
+        };
+        s.method = "LTM-CP-11 rev 2, temperature switches in a stirred liquid bath".to_string();
+        s.dates = DatesBlock {
+            received_on: Some("2025-04-14".to_string()),
+            calibrated_on: "2025-04-16".to_string(),
+            issued_on: "2025-04-17".to_string(),
+        };
+        s.conditions = ConditionsBlock {
+            medium: Some("LTM-BATH-04 stirred water-glycol bath".to_string()),
+            immersion_mm: Some(60.0),
+            reference_junction: None,
+            ambient_t_c: Some(21.2),
+            ambient_rh_percent: Some(41.0),
+            condition: "as found".to_string(),
+        };
+        s.results = Vec::new();
+        s.deviation_function = None;
+        s.plot = PlotBlock::default();
+        s.conformity = Some(ConformityBlock {
+            specification: "Customer specification: switch point 85 °C ± 2 °C".to_string(),
+            decision_rule: "Simple acceptance: the switch point conforms when it lies within \
+                            the tolerance; the uncertainty is not subtracted."
+                .to_string(),
+            statement: "The switch point conforms to the specification.".to_string(),
+        });
+        s.traceability.truncate(1);
+        s.traceability.push(TraceRow {
+            role: "medium".to_string(),
+            asset_id: "LTM-BATH-04".to_string(),
+            description: "stirred water-glycol bath".to_string(),
+            certificate_number: String::new(),
+            issuer: String::new(),
+            calibrated_on: "2025-02-20".to_string(),
+            due_on: "2026-02-20".to_string(),
+        });
+        let change = |ramp: u32, t_c: f64| {
+            let rising = ramp % 2 == 1;
+            SwitchChange {
+                ramp,
+                direction: if rising { "rising" } else { "falling" }.to_string(),
+                t_c,
+                new_state: Some(if rising { "open" } else { "closed" }.to_string()),
+            }
+        };
+        s.switch = Some(SwitchBlock {
+            nominal_t_c: 85.0,
+            actuation: "opens on rising temperature".to_string(),
+            method: "3 rising and 3 falling ramps at 0.5 °C/min, contact state read at \
+                     every reading"
+                .to_string(),
+            switch_point: SwitchPointBlock {
+                direction: "rising".to_string(),
+                n: 3,
+                value: switch_value(85.42, 0.35, "85.42", "0.35"),
+                std_dev_c: Some(0.045_83),
+            },
+            reset_point: Some(SwitchPointBlock {
+                direction: "falling".to_string(),
+                n: 3,
+                value: switch_value(78.10, 0.36, "78.10", "0.36"),
+                std_dev_c: Some(0.055_68),
+            }),
+            differential: Some(switch_value(7.32, 0.30, "7.32", "0.30")),
+            changes: vec![
+                change(1, 85.38),
+                change(2, 78.05),
+                change(3, 85.47),
+                change(4, 78.16),
+                change(5, 85.41),
+                change(6, 78.09),
+            ],
+            outcome: Some("pass".to_string()),
+            notes: SWITCH_NOTES.iter().map(ToString::to_string).collect(),
+        });
+        s
     }
 
     #[cfg(feature = "system-tests")]
@@ -2170,5 +2560,243 @@ mod tests {
             assert!(all.contains(w), "the PDF text lacks {w:?}");
         }
         assert!(!all.contains("Outcome"));
+    }
+    #[test]
+    fn switch_certificate_renders_the_same_bytes_twice() {
+        let s = switch_snapshot();
+        let a = render_pdf(&s).unwrap();
+        let b = render_pdf(&s).unwrap();
+        assert!(a.starts_with(b"%PDF-"));
+        assert!(a == b, "two renders of the same switch snapshot differ");
+        save_sample(&a, "switch");
+        let mut t = s.clone();
+        if let Some(sw) = &mut t.switch {
+            sw.changes[3].t_c = 78.17;
+        }
+        assert_ne!(
+            a,
+            render_pdf(&t).unwrap(),
+            "a changed state change left the PDF as it was"
+        );
+    }
+
+    #[test]
+    fn switch_rows_print_the_snapshot_strings() {
+        let s = switch_snapshot();
+        let sw = s.switch.as_ref().unwrap();
+        let text = |q: &'static str, d: &str, n: &str, v: &str, u: &str, k: &str, sd: &str| {
+            SwitchRowText {
+                quantity: q,
+                direction: d.to_string(),
+                n: n.to_string(),
+                value: v.to_string(),
+                uncertainty: u.to_string(),
+                k: k.to_string(),
+                std_dev: sd.to_string(),
+            }
+        };
+        assert_eq!(
+            switch_rows(sw),
+            vec![
+                text(
+                    "Switch point",
+                    "rising",
+                    "3",
+                    "85.42",
+                    "0.35",
+                    "2.00",
+                    "0.046"
+                ),
+                text(
+                    "Reset point",
+                    "falling",
+                    "3",
+                    "78.10",
+                    "0.36",
+                    "2.00",
+                    "0.056"
+                ),
+                text("Differential", "—", "—", "7.32", "0.30", "2.00", "—"),
+            ]
+        );
+        let temps: Vec<String> = switch_changes(sw).into_iter().map(|c| c.t_c).collect();
+        assert_eq!(
+            temps,
+            ["85.38", "78.05", "85.47", "78.16", "85.41", "78.09"]
+        );
+        assert_eq!(switch_nominal(sw), "85 °C");
+
+        // One cycle: no reset point, no differential, no s.
+        let mut one = sw.clone();
+        one.reset_point = None;
+        one.differential = None;
+        one.switch_point.n = 1;
+        one.switch_point.std_dev_c = None;
+        one.changes.truncate(1);
+        one.changes[0].new_state = None;
+        assert_eq!(
+            switch_rows(&one),
+            vec![text(
+                "Switch point",
+                "rising",
+                "1",
+                "85.42",
+                "0.35",
+                "2.00",
+                "—"
+            )]
+        );
+        let c = &switch_changes(&one)[0];
+        assert_eq!((c.ramp.as_str(), c.new_state.as_str()), ("1", "—"));
+    }
+
+    #[test]
+    fn a_column_of_changes_shares_its_decimals() {
+        assert_eq!(column_decimals(&[85.38, 85.4, 78.1], 3), 2);
+        assert_eq!(column_decimals(&[85.375, 85.4], 3), 3);
+        assert_eq!(column_decimals(&[85.0, 78.0], 3), 0);
+        assert_eq!(column_decimals(&[85.12345], 3), 3);
+        let mut sw = switch_snapshot().switch.unwrap();
+        sw.changes[0].t_c = 85.375;
+        sw.changes[1].t_c = 78.0;
+        let temps: Vec<String> = switch_changes(&sw).into_iter().map(|c| c.t_c).collect();
+        assert_eq!(temps[..3], ["85.375", "78.000", "85.470"]);
+        assert_eq!(fmt_fixed(-0.0004, 3), "0.000");
+    }
+
+    #[cfg(feature = "system-tests")]
+    #[test]
+    fn switch_text_has_every_switch_item() {
+        let s = switch_snapshot();
+        let sw = s.switch.as_ref().unwrap();
+        let pages = pdf_pages(&render_pdf(&s).unwrap(), "switch");
+        assert_footers(&pages, &s);
+        assert!(pages[0].contains(&format!("Certificate {} rev 0 — page 1 of", s.number)));
+        let all = pages.join(" ");
+        let mut wanted: Vec<String> = vec![
+            s.number.clone(),
+            s.customer.name.clone(),
+            s.item.serial.clone(),
+            "Switch test results".to_string(),
+            "Nominal switch point 85 °C".to_string(),
+            "Actuation opens on rising temperature".to_string(),
+            format!("Test method {}", normalise(&sw.method)),
+            "Switch point against tolerance pass".to_string(),
+            // The rows of the table, cell by cell in reading order.
+            "Switch point rising 3 85.42 0.35 2.00 0.046".to_string(),
+            "Reset point falling 3 78.10 0.36 2.00 0.056".to_string(),
+            "Differential — — 7.32 0.30 2.00 —".to_string(),
+            "Observed state changes, in test order".to_string(),
+            normalise(COVERAGE),
+            s.conformity.as_ref().unwrap().statement.clone(),
+            "End of certificate".to_string(),
+        ];
+        for (i, c) in sw.changes.iter().enumerate() {
+            let state = if i % 2 == 0 { "open" } else { "closed" };
+            wanted.push(format!("{} {} {:.2} {state}", c.ramp, c.direction, c.t_c));
+        }
+        for n in &sw.notes {
+            wanted.push(normalise(n));
+        }
+        for w in &wanted {
+            assert!(all.contains(w.as_str()), "the PDF text lacks {w:?}");
+        }
+        // The coverage statement is printed with the switch results, not
+        // a second time among the statements.
+        assert_eq!(all.matches(&normalise(COVERAGE)).count(), 1);
+    }
+
+    #[cfg(feature = "system-tests")]
+    #[test]
+    fn switch_certificate_has_no_set_point_sections() {
+        let s = switch_snapshot();
+        let all = pdf_pages(&render_pdf(&s).unwrap(), "switch-empty").join(" ");
+        for absent in [
+            "Deviation plot",
+            "Deviation function",
+            "Reference temperature (°C)",
+            "Indication (°C)",
+            "Correction (°C)",
+            "No set points were measured",
+        ] {
+            assert!(!all.contains(absent), "the PDF text has {absent:?}");
+        }
+        // Sections stay numbered without gaps: conformity follows the
+        // switch results (6) as 7.
+        assert!(all.contains("5 Conditions"));
+        assert!(all.contains("7 Conformity"));
+        assert!(all.contains("8 Traceability"));
+    }
+
+    #[cfg(feature = "system-tests")]
+    #[test]
+    fn plot_without_finite_data_leaves_no_heading() {
+        let mut s = snapshot();
+        s.plot.points = vec![[f64::NAN, 0.02, 0.02]];
+        s.plot.curve.clear();
+        let all = pdf_pages(&render_pdf(&s).unwrap(), "plot-nan").join(" ");
+        assert!(all.contains("Results"));
+        assert!(!all.contains("Deviation plot"));
+        assert!(!all.contains("Measured deviation ± U"));
+    }
+
+    #[cfg(feature = "system-tests")]
+    #[test]
+    fn no_set_points_and_no_switch_says_so_and_keeps_the_coverage_statement() {
+        let mut s = snapshot();
+        s.results.clear();
+        s.deviation_function = None;
+        let all = pdf_pages(&render_pdf(&s).unwrap(), "no-points").join(" ");
+        assert!(all.contains("Results No set points were measured."));
+        assert!(all.contains(&normalise(COVERAGE)));
+        assert!(!all.contains("Switch test results"));
+        assert!(!all.contains("Indication (°C)"));
+        assert!(!all.contains("Deviation plot"));
+    }
+    #[cfg(feature = "system-tests")]
+    #[test]
+    fn one_cycle_switch_test_prints_only_what_it_has() {
+        let mut s = switch_snapshot();
+        s.conformity = None;
+        let note = "One cycle only: no experimental standard deviation exists, and U does \
+                    not cover the repeatability of the switch.";
+        if let Some(sw) = &mut s.switch {
+            sw.method =
+                "1 rising ramp at 0.5 °C/min, contact state read at every reading".to_string();
+            sw.switch_point.n = 1;
+            sw.switch_point.std_dev_c = None;
+            sw.switch_point.value = switch_value(85.38, 0.31, "85.38", "0.31");
+            sw.reset_point = None;
+            sw.differential = None;
+            sw.changes.truncate(1);
+            sw.changes[0].new_state = None;
+            sw.outcome = None;
+            sw.notes = vec![note.to_string()];
+        }
+        let bytes = render_pdf(&s).unwrap();
+        save_sample(&bytes, "switch-one-cycle");
+        let pages = pdf_pages(&bytes, "switch-one");
+        assert_footers(&pages, &s);
+        let all = pages.join(" ");
+        for w in [
+            "Switch point rising 1 85.38 0.31 2.00 —",
+            // pdftotext reads a one-row table's cells out of order; these
+            // runs stay together.
+            "Ramp Direction Temperature (°C) 1 rising",
+            "New state 85.38 —",
+            note,
+            "End of certificate",
+        ] {
+            assert!(all.contains(&normalise(w)), "the PDF text lacks {w:?}");
+        }
+        for absent in [
+            "Reset point",
+            "Differential",
+            "Switch point against tolerance",
+            "Conformity",
+            "Deviation plot",
+        ] {
+            assert!(!all.contains(absent), "the PDF text has {absent:?}");
+        }
     }
 }

@@ -10,7 +10,8 @@ use axum::http::header;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use super::{Nav, PageError};
-use crate::report::snapshot::CertificateSnapshot;
+use crate::report::pdf::{SwitchChangeText, SwitchRowText};
+use crate::report::snapshot::{CertificateSnapshot, SwitchBlock};
 use crate::store::{certificates, records, runs};
 use crate::web::api::records::ApiError;
 use crate::web::api::review::{approve_run, pdf_of, return_run};
@@ -159,6 +160,22 @@ impl CertificatePage {
             1 => format!("c1 = {value:.7e} °C/°C"),
             i => format!("c{i} = {value:.7e} °C/°C^{i}"),
         }
+    }
+    /// The nominal switch point as the PDF prints it.
+    fn switch_nominal(&self, sw: &SwitchBlock) -> String {
+        crate::report::pdf::switch_nominal(sw)
+    }
+    /// Switch point, reset point and differential as the PDF prints them.
+    fn switch_rows(&self, sw: &SwitchBlock) -> Vec<SwitchRowText> {
+        crate::report::pdf::switch_rows(sw)
+    }
+    /// What n and s mean, as the PDF prints it.
+    fn switch_legend(&self) -> &'static str {
+        crate::report::pdf::SWITCH_LEGEND
+    }
+    /// The observed state changes as the PDF prints them.
+    fn switch_changes(&self, sw: &SwitchBlock) -> Vec<SwitchChangeText> {
+        crate::report::pdf::switch_changes(sw)
     }
 }
 
@@ -363,4 +380,73 @@ pub async fn amend(
             .await
             .map_err(page_error)?;
     Ok(Redirect::to(&format!("/certificates/{}", issued.number)).into_response())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::pdf::tests::switch_snapshot;
+
+    fn page(c: CertificateSnapshot) -> String {
+        CertificatePage {
+            nav: Nav::default(),
+            csrf: "csrf-token".to_owned(),
+            may_amend: false,
+            c,
+            sha256: "ab".repeat(32),
+            replaced: false,
+            plot_svg: String::new(),
+        }
+        .render()
+        .unwrap()
+    }
+
+    /// The page without whitespace between tags, so rows can be matched
+    /// whole.
+    fn squeezed(html: &str) -> String {
+        html.lines().map(str::trim).collect::<Vec<_>>().join("")
+    }
+
+    #[test]
+    fn switch_certificate_page_shows_the_switch_results() {
+        let html = squeezed(&page(switch_snapshot()));
+        for row in [
+            r#"<tr><th scope="row">Switch point</th><td>rising</td><td class="num">3</td><td class="num">85.42</td><td class="num">0.35</td><td class="num">2.00</td><td class="num">0.046</td></tr>"#,
+            r#"<tr><th scope="row">Reset point</th><td>falling</td><td class="num">3</td><td class="num">78.10</td><td class="num">0.36</td><td class="num">2.00</td><td class="num">0.056</td></tr>"#,
+            r#"<tr><th scope="row">Differential</th><td>—</td><td class="num">—</td><td class="num">7.32</td><td class="num">0.30</td><td class="num">2.00</td><td class="num">—</td></tr>"#,
+            r#"<tr><th scope="row" class="num">1</th><td>rising</td><td class="num">85.38</td><td>open</td></tr>"#,
+            r#"<tr><th scope="row" class="num">4</th><td>falling</td><td class="num">78.16</td><td>closed</td></tr>"#,
+            r#"<tr><th scope="row" class="num">6</th><td>falling</td><td class="num">78.09</td><td>closed</td></tr>"#,
+            "<dt>Nominal switch point</dt><dd>85 °C</dd>",
+            "<dt>Actuation</dt><dd>opens on rising temperature</dd>",
+            r#"<dt>Switch point against tolerance</dt><dd class="outcome">pass</dd>"#,
+            // Markup in text is escaped.
+            "<li>Contact resistance &#60; 50 mΩ when closed",
+            "<p>Result: The switch point conforms to the specification.</p>",
+        ] {
+            assert!(html.contains(row), "the page lacks {row}");
+        }
+        assert_eq!(html.matches("<h2>Switch test results</h2>").count(), 1);
+        // No set-point results, plot or function on a switch certificate.
+        for absent in [
+            "<h2>Results</h2>",
+            "Reference temperature",
+            "<h2>Deviation function</h2>",
+            "No set points were measured",
+            "style=",
+            "<script",
+        ] {
+            assert!(!html.contains(absent), "the page has {absent:?}");
+        }
+    }
+
+    #[test]
+    fn sensor_certificate_page_keeps_its_results_and_has_no_switch_section() {
+        let mut c = switch_snapshot();
+        c.switch = None;
+        let html = squeezed(&page(c.clone()));
+        assert!(html.contains("<h2>Results</h2><p>No set points were measured.</p>"));
+        assert!(!html.contains("Switch test results"));
+        assert!(html.contains("<p>Result by set point: "));
+    }
 }
