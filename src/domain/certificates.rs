@@ -227,7 +227,13 @@ pub async fn build_snapshot(
         deviation_function,
         conformity,
         traceability,
-        statements: fixed_statements(coverage_probability),
+        statements: {
+            let mut st = fixed_statements(coverage_probability);
+            if switch.is_some() {
+                st[2] = "Temperatures are on the International Temperature Scale of 1990 (ITS-90). The switch and reset points are the reference temperatures at which the contact changed state, each the mean over the ramps in its direction.".to_owned();
+            }
+            st
+        },
         performed_by: technician,
         approved_by: issue.approved_by.to_owned(),
         plot,

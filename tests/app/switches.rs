@@ -210,6 +210,12 @@ async fn a_thermostat_test_gives_switch_and_reset_points_and_a_certificate(pool:
     assert_eq!(cert["switch"]["actuation"], "opens on rising temperature");
     assert!(cert["results"].as_array().expect("rows").is_empty());
     assert_eq!(cert["conformity"]["statement"], "switch point: pass");
+    assert!(
+        cert["statements"][2]
+            .as_str()
+            .expect("statement")
+            .contains("switch and reset points are the reference temperatures")
+    );
     let register = ok(
         &call(
             &lab.app,
