@@ -14,3 +14,6 @@ pub mod calib;
 pub mod stats;
 pub mod thermo;
 pub mod validation;
+
+#[cfg(test)]
+mod properties;

@@ -156,6 +156,14 @@ async fn bad_fit_requests_name_the_field(pool: SqlitePool) {
             "x",
             "rank",
         ),
+        // Found by fuzzing: a value beyond the floating-point range was answered 200 with
+        // null in place of the number.
+        (
+            json!({"x": [0.0, 1.0, 2.0, 3.0, 4.0, 5.0], "y": [0.0, 1.0, 4.0, 9.0, 16.0, 26.0],
+                "degree": 4, "evaluate_at": [1.0, 1e300]}),
+            "evaluate_at[1]",
+            "beyond the floating-point range",
+        ),
     ];
     for (body, field, needle) in cases {
         let answer = post_json(&app, "/api/v1/compute/fit", &body).await;
@@ -412,6 +420,14 @@ async fn bad_budgets_name_the_component_field(pool: SqlitePool) {
                 "decision": {"rule": "lenient", "upper": 1.0}}),
             "decision.rule",
             "unknown rule",
+        ),
+        // Found by fuzzing: a guard band of 1e308 × U made the acceptance limits infinite,
+        // answered 200 with null limits.
+        (
+            json!({"components": [{"name": "a", "distribution": "normal", "standard_uncertainty": 1.0}],
+                "decision": {"rule": "guarded", "lower": -1.0, "upper": 1.0, "guard_band_factor": 1e308}}),
+            "decision.r",
+            "overflow the floating-point range",
         ),
     ];
     for (body, field, needle) in cases {

@@ -216,6 +216,26 @@ pub fn decide(
     };
     let w = r * expanded_uncertainty;
     let acceptance = tol.shifted(w);
+    // Every limit that the decision reports must be a number: a huge r, U or limit could
+    // otherwise move a limit to ±inf (and the guard band itself overflow).
+    let non_binary = matches!(rule, DecisionRule::GuardedNonBinary { .. });
+    let reported = [tol, acceptance]
+        .into_iter()
+        .chain(non_binary.then(|| tol.shifted(-w)));
+    if !w.is_finite()
+        || reported
+            .flat_map(|l| [l.lower, l.upper])
+            .flatten()
+            .any(|v| !v.is_finite())
+    {
+        return Err(StatsError::invalid(
+            "r",
+            format!(
+                "the tolerance limits, or the guard band w = {r} × {expanded_uncertainty} \
+                 applied to them, overflow the floating-point range"
+            ),
+        ));
+    }
     let (outcome, rejection, statement) = match rule {
         DecisionRule::SimpleAcceptance => (
             if tol.contains(measured) {
@@ -389,5 +409,36 @@ mod tests {
         };
         assert!(decide(0.0, U, &bad, r).is_err());
         assert!(decide(0.0, U, &TOL, DecisionRule::GuardedBinary { r: -1.0 }).is_err());
+    }
+
+    /// Found by fuzzing (fuzz target `compute_uncertainty`): a guard band factor of 1e308
+    /// with U = 2 gave w = inf and acceptance limits of ±inf, which the API wrote as null.
+    #[test]
+    fn limits_beyond_the_floating_point_range_are_refused() {
+        let tol = Tolerance::Interval {
+            lower: -1.0,
+            upper: 1.0,
+        };
+        for rule in [
+            DecisionRule::GuardedBinary { r: 1e308 },
+            DecisionRule::GuardedNonBinary { r: 1e308 },
+        ] {
+            let e = decide(0.0, 2.0, &tol, rule).unwrap_err();
+            assert!(e.to_string().contains("overflow"), "{e}");
+        }
+        // Finite w, but a rejection limit beyond the range (non-binary reports it).
+        let wide = Tolerance::UpperOnly { upper: 1e308 };
+        let rule = DecisionRule::GuardedNonBinary { r: 1.0 };
+        assert!(decide(0.0, 1e308, &wide, rule).is_err());
+        // The binary rule reports no rejection limits: the same case decides (w = 1e308,
+        // acceptance limit 0, measured 0 is on it: a pass).
+        let d = decide(0.0, 1e308, &wide, DecisionRule::GuardedBinary { r: 1.0 }).unwrap();
+        assert_eq!(d.outcome, Outcome::Pass);
+        // A symmetric tolerance whose limits overflow.
+        let huge = Tolerance::Symmetric {
+            nominal: 1e308,
+            half_width: 1e308,
+        };
+        assert!(decide(0.0, 0.0, &huge, DecisionRule::SimpleAcceptance).is_err());
     }
 }

@@ -618,11 +618,17 @@ pub fn fit_polynomial(
         y.iter().zip(&w).map(|(yi, wi)| wi * yi * yi).sum::<f64>()
     };
     let r_squared = if sst > 0.0 { 1.0 - ssr / sst } else { 1.0 };
+    let residual_std_dev = s2.map(|v| v.sqrt().to_f64());
+    // The residuals and their sum of squares can overflow when the coefficients do not
+    // (with the unscaled covariance nothing else shows it): refuse them as well.
     let all_finite = coefficients
         .iter()
         .chain(&standard_uncertainties)
         .chain(&fitted)
         .chain(covariance.iter())
+        .chain(&residuals)
+        .chain([ssr, r_squared].iter())
+        .chain(residual_std_dev.iter())
         .all(|v| v.is_finite());
     if !all_finite {
         return Err(overflow_failure());
@@ -656,7 +662,7 @@ pub fn fit_polynomial(
         standard_uncertainties,
         fitted,
         residuals,
-        residual_std_dev: s2.map(|v| v.sqrt().to_f64()),
+        residual_std_dev,
         dof,
         r_squared,
         condition_number: sol.condition_number,
@@ -673,8 +679,8 @@ pub fn fit_polynomial(
 
 pub(crate) fn overflow_failure() -> StatsError {
     StatsError::NumericalFailure {
-        what: "the coefficients or their covariance overflow the floating-point range \
-               in the user's variable; rescale x or y"
+        what: "the coefficients, their covariance or the residuals overflow the \
+               floating-point range in the user's variable; rescale x or y"
             .into(),
     }
 }
@@ -697,13 +703,19 @@ impl PolyFit {
         let m = self.powers.len();
         let g: Vec<Dd> = self.powers.iter().map(|&p| z.powi(p)).collect();
         let value = eval_z(&self.z_coef, &self.powers, z);
+        // Far outside the data gᵀ V g can overflow while u = √(gᵀ V g) is still a number
+        // (found by fuzzing: degree 4 at x = 5.6e40). g is scaled by a power of two first,
+        // which is exact, and u scaled back.
+        let g_max = g.iter().fold(0.0f64, |acc, v| acc.max(v.to_f64().abs()));
+        let unit = pow2_at_least(g_max);
+        let g: Vec<Dd> = g.iter().map(|v| v.mul_f64(1.0 / unit)).collect();
         let mut var = Dd::ZERO;
         for i in 0..m {
             for j in 0..m {
                 var = var + g[i] * self.z_cov[i * m + j] * g[j];
             }
         }
-        (value.to_f64(), var.sqrt().to_f64().abs())
+        (value.to_f64(), (var.sqrt().to_f64() * unit).abs())
     }
 
     /// Correlation coefficient r(c_i, c_j) = u(c_i, c_j) / (u(c_i) u(c_j)) (dimensionless);
@@ -1230,6 +1242,62 @@ mod tests {
         let fit = fit_polynomial(&x, &[0.0; 6], None, &PolyOptions::new(2)).unwrap();
         assert!(fit.coefficients.iter().all(|&c| c == 0.0));
         assert_eq!(fit.residual_std_dev, Some(0.0));
+    }
+
+    /// Found by fuzzing (fuzz target `compute_fit`): the uncertainty of a degree-4 fit
+    /// evaluated at x = 5.6e40 came back as NaN because gᵀ V g (about x^8) overflowed,
+    /// although u itself (about x^4) is a number.
+    #[test]
+    fn evaluation_far_outside_the_data_keeps_a_finite_uncertainty() {
+        let x = [0.0, 10.0, 20.0, 65.0, 40.0, 50.0];
+        let y = [0.01, 0.012, 0.018, 0.021, 0.03, 0.041];
+        let fit = fit_polynomial(&x, &y, None, &PolyOptions::new(4)).unwrap();
+        let far = 5.555555555555556e40;
+        let (value, u) = fit.evaluate(far);
+        assert!(
+            value.is_finite() && u.is_finite() && u > 0.0,
+            "{value} ± {u}"
+        );
+        // u grows as |x|^4 far out: u(2x) / u(x) = 16 to working precision.
+        let (_, u2) = fit.evaluate(2.0 * far);
+        assert!((u2 / u - 16.0).abs() < 1e-9, "{}", u2 / u);
+        // Near the data the scaling changes nothing: u at x = 30 equals √(gᵀVg) in x form.
+        let (_, u30) = fit.evaluate(30.0);
+        let g: Vec<f64> = (0..5).map(|p| 30f64.powi(p)).collect();
+        let var: f64 = (0..5)
+            .flat_map(|i| (0..5).map(move |j| (i, j)))
+            .map(|(i, j)| g[i] * fit.covariance[(i, j)] * g[j])
+            .sum();
+        assert!(
+            (u30 - var.sqrt()).abs() < 1e-9 * u30,
+            "{u30} vs {}",
+            var.sqrt()
+        );
+    }
+
+    /// Found by fuzzing (fuzz target `compute_fit`): with point uncertainties (unscaled
+    /// covariance) and one y of 1e163, the coefficients and their covariance stay finite but
+    /// the weighted residual sum of squares, 2500 (1e163)², overflows: the fit came back with
+    /// s = NaN, χ² = inf and R² = NaN. It is refused as an overflow now.
+    #[test]
+    fn overflowing_residuals_are_refused() {
+        let x = [250.0, 0.0, 100.0, 200.0];
+        let y = [-0.03, 0.0, 1e163, 0.09];
+        let w = weights_from_uncertainties(&[0.01, 0.01, 0.02, 0.02]).unwrap();
+        let options = PolyOptions {
+            degree: 1,
+            intercept: false,
+            covariance: CovarianceConvention::Unscaled,
+        };
+        let e = fit_polynomial(&x, &y, Some(&w), &options).unwrap_err();
+        assert!(matches!(e, StatsError::NumericalFailure { .. }), "{e}");
+        assert!(e.to_string().contains("residuals overflow"), "{e}");
+        // The same points with y scaled by 1e-150 are fitted, with finite statistics.
+        let y: Vec<f64> = y.iter().map(|v| v * 1e-150).collect();
+        let fit = fit_polynomial(&x, &y, Some(&w), &options).unwrap();
+        let chi = fit.chi_square.unwrap();
+        assert!(chi.chi_square.is_finite() && fit.r_squared.is_finite());
+        assert!(fit.residual_std_dev.unwrap().is_finite());
     }
 
     proptest! {

@@ -637,9 +637,17 @@ impl Sprt {
         }
         // Below W_r(273.15 K) (within the allowance) eq. (10a) is not
         // defined; the general inverse then gives the temperature, which the
-        // range check below accepts or refuses.
-        let solved = if sr.above_water_only() && wr >= high_domain().0 {
-            t90_from_wr_high(wr)
+        // range check below accepts or refuses. Eq. (9a) at 273.15 K lies
+        // 5.34e-9 below eq. (10a) (1.34 µK): a W_r in that gap belongs to no
+        // temperature of the forward function and is taken as 273.15 K, where
+        // the two meet. (A resistance computed at 273.15 K lands in the gap
+        // whenever the forward solution stops a little below its target.)
+        let solved = if sr.above_water_only() {
+            if wr >= high_domain().0 {
+                t90_from_wr_high(wr)
+            } else {
+                t90_from_wr(wr).map(|t| t.min(HIGH_RANGE_MIN_K))
+            }
         } else {
             t90_from_wr(wr)
         };
@@ -1075,6 +1083,58 @@ mod tests {
                 ..
             })
         ));
+    }
+
+    /// Found by fuzzing (fuzz target `thermo`): in the sub-ranges from 0 °C up, a W_r just
+    /// below W_r(273.15 K) of eq. (10a) went to the inverse of eq. (9a), which lies 5.34e-9
+    /// lower there, and came back as 273.1500013 K. The resistance that `resistance`
+    /// computes at 273.15 K can land there, so the ice point did not round-trip.
+    #[test]
+    fn ice_point_round_trips_in_the_sub_ranges_above_water() {
+        // Gap between eq. (9a) and eq. (10a) at 273.15 K, computed from the published
+        // coefficients (Python, double precision, plain power sums): 5.340051845e-9. Both
+        // values are near 1, so each carries rounding of about 1e-16: 1e-15 allows for it.
+        let gap = high_eval(HIGH_RANGE_MIN_K).0 - low_eval(HIGH_RANGE_MIN_K).0;
+        assert!((gap - 5.340051845e-9).abs() < 1e-15, "{gap}");
+        let sprt = Sprt::new(25.5, SprtSubRange::WaterToGallium { a: -1e-4 }).unwrap();
+        let w_ice = high_eval(HIGH_RANGE_MIN_K).0;
+        // W with W - a(W - 1) = W_r(273.15 K) - 1e-13 (the forward tolerance), and half way
+        // into the gap: both are 273.15 K.
+        for below in [1e-13, 0.5 * gap] {
+            let w = (w_ice - below + 1e-4) / (1.0 + 1e-4);
+            let t = sprt.temperature(w * 25.5).unwrap();
+            assert!(
+                (t.t90_k - HIGH_RANGE_MIN_K).abs() < 1e-9,
+                "{below}: {}",
+                t.t90_k
+            );
+        }
+        // Below the gap eq. (9a) applies as before: W_r(273.145 K) of eq. (9a).
+        let w = (low_eval(273.145).0 + 1e-4) / (1.0 + 1e-4);
+        let t = sprt.temperature(w * 25.5).unwrap();
+        assert!((t.t90_k - 273.145).abs() < 1e-9, "{}", t.t90_k);
+        // The round trip at the ice point itself, for every sub-range from 0 °C up.
+        for sr in [
+            SprtSubRange::WaterToGallium { a: -1e-4 },
+            SprtSubRange::WaterToIndium { a: 1e-4 },
+            SprtSubRange::WaterToTin { a: -1e-4, b: 1e-5 },
+            SprtSubRange::WaterToZinc { a: -1e-4, b: -1e-4 },
+            SprtSubRange::WaterToAluminium {
+                a: -1e-4,
+                b: -1e-4,
+                c: -1e-4,
+            },
+        ] {
+            for r_tpw in [0.25, 25.5, 100.0, 942.0] {
+                let sprt = Sprt::new(r_tpw, sr).unwrap();
+                let back = sprt.temperature(sprt.resistance(273.15).unwrap()).unwrap();
+                assert!(
+                    (back.t90_k - 273.15).abs() < 1e-9,
+                    "{sr:?} {r_tpw}: {}",
+                    back.t90_k
+                );
+            }
+        }
     }
 
     proptest! {

@@ -68,9 +68,8 @@ where
     if !(f_lo.is_finite() && f_hi.is_finite()) {
         return Err(SolveFailure::NoConvergence);
     }
-    if f_lo > 0.0 || f_hi < 0.0 {
-        return Err(SolveFailure::NotBracketed);
-    }
+    // An end that meets the tolerance is the answer even when rounding put the target a
+    // hair outside the bracket (f(hi) slightly below 0, or f(lo) slightly above).
     if f_lo.abs() < tol {
         return Ok(Solution {
             x: lo,
@@ -82,6 +81,9 @@ where
             x: hi,
             residual: f_hi,
         });
+    }
+    if f_lo > 0.0 || f_hi < 0.0 {
+        return Err(SolveFailure::NotBracketed);
     }
     let (mut r_lo, mut r_hi) = (f_lo, f_hi);
     let mut x = if x0.is_finite() && x0 > lo && x0 < hi {
@@ -172,6 +174,21 @@ mod tests {
     #[test]
     fn refuses_missing_sign_change() {
         let r = solve_increasing(|x| (x + 10.0, 1.0), 0.0, 1.0, 0.5, 1e-12, 0.0);
+        assert_eq!(r, Err(SolveFailure::NotBracketed));
+    }
+
+    /// Found by fuzzing (fuzz target `thermo`, through the PRT inverse): a target rounded
+    /// just past the end of the bracket was refused as "not bracketed" although the end
+    /// met the tolerance.
+    #[test]
+    fn end_within_tolerance_is_accepted_outside_the_bracket() {
+        // f(hi) = 1 - (1 + 1e-15) < 0, but |f(hi)| < 1e-13.
+        let s = solve_increasing(|x| (x - (1.0 + 1e-15), 1.0), 0.0, 1.0, 0.5, 1e-13, 0.0).unwrap();
+        assert_eq!(s.x, 1.0);
+        let s = solve_increasing(|x| (x + 1e-15, 1.0), 0.0, 1.0, 0.5, 1e-13, 0.0).unwrap();
+        assert_eq!(s.x, 0.0);
+        // Farther out than the tolerance it is still refused.
+        let r = solve_increasing(|x| (x - 1.001, 1.0), 0.0, 1.0, 0.5, 1e-13, 0.0);
         assert_eq!(r, Err(SolveFailure::NotBracketed));
     }
 

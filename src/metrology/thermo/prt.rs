@@ -54,7 +54,7 @@ impl CvdCoefficients {
                 reason: format!("must be positive; got {} Ω", number_text(r0)),
             });
         }
-        Ok(Self::nominal(r0))
+        Self::nominal(r0).representable()
     }
 
     const fn nominal(r0: f64) -> Self {
@@ -162,7 +162,42 @@ impl CvdCoefficients {
                 ),
             });
         }
-        Ok(curve)
+        curve.representable()
+    }
+
+    /// Refuses a curve whose resistances a double cannot carry over its range: R(t) must be
+    /// positive, finite and a normal number (not subnormal) from one end to the other, and
+    /// dR/dt finite with its smallest value normal. Without this an R0 of 1e-320 Ω gave
+    /// R(t) with a few significant bits and dR/dt = 0, and an R0 of 1e308 Ω or a huge B gave
+    /// infinite resistances. Call after the slope check: R(t) then increases, so its ends
+    /// bound it and dR/dt takes its extremes at the points `slope_candidates` lists.
+    fn representable(self) -> ThermoResult<Self> {
+        let r_lo = self.r0 * self.ratio(self.t_min).0;
+        let r_hi = self.r0 * self.ratio(self.t_max).0;
+        let slopes = self
+            .slope_candidates()
+            .into_iter()
+            .map(|t| self.r0 * self.ratio(t).1);
+        let (slope_lo, slope_hi) = slopes.fold((f64::INFINITY, 0.0f64), |(lo, hi), s| {
+            (lo.min(s), hi.max(s))
+        });
+        let normal = |v: f64| v.is_finite() && v >= f64::MIN_POSITIVE;
+        if !(normal(r_lo) && normal(r_hi) && normal(slope_lo) && slope_hi.is_finite()) {
+            return Err(ThermoError::InvalidParameter {
+                name: "coefficients",
+                reason: format!(
+                    "R(t) must be a positive resistance that a computer can represent from {} °C \
+                     to {} °C, but R runs from {} Ω to {} Ω and dR/dt from {} Ω/K to {} Ω/K",
+                    number_text(self.t_min),
+                    number_text(self.t_max),
+                    number_text(r_lo),
+                    number_text(r_hi),
+                    number_text(slope_lo),
+                    number_text(slope_hi)
+                ),
+            });
+        }
+        Ok(self)
     }
 
     /// Resistance at 0 °C, Ω.
@@ -314,6 +349,21 @@ impl CvdCoefficients {
 
     /// Smallest dW/dt over the range and where it occurs.
     fn smallest_slope(&self) -> (f64, f64) {
+        self.slope_candidates()
+            .into_iter()
+            .map(|t| (t, self.ratio(t).1))
+            .fold((f64::NAN, f64::INFINITY), |best, cur| {
+                if cur.1 < best.1 || cur.1.is_nan() {
+                    cur
+                } else {
+                    best
+                }
+            })
+    }
+
+    /// The temperatures where dW/dt can take its extremes over the range: the ends, 0 °C
+    /// (where the C term starts) and the stationary points of dW/dt below 0 °C.
+    fn slope_candidates(&self) -> Vec<f64> {
         let mut candidates = vec![self.t_min, self.t_max];
         if self.t_min < 0.0 && self.t_max > 0.0 {
             candidates.push(0.0);
@@ -334,16 +384,7 @@ impl CvdCoefficients {
                 }
             }
         }
-        candidates.into_iter().map(|t| (t, self.ratio(t).1)).fold(
-            (f64::NAN, f64::INFINITY),
-            |best, cur| {
-                if cur.1 < best.1 || cur.1.is_nan() {
-                    cur
-                } else {
-                    best
-                }
-            },
-        )
+        candidates
     }
 
     fn label(&self) -> String {
@@ -719,6 +760,63 @@ mod tests {
         assert!(err.to_string().contains(" at -69.64"), "{err}");
         assert!(CvdCoefficients::iec_60751(-100.0).is_err());
         assert!(CvdCoefficients::iec_60751(f64::INFINITY).is_err());
+    }
+
+    /// Found by fuzzing (fuzz target `thermo`): on a certificate curve whose range ends
+    /// below 0 °C, the resistance at the upper end did not invert ("did not converge"):
+    /// W = R/R0 rounded one ulp above W(t_max), the solver saw no sign change in its bracket
+    /// and gave up although the end itself met the tolerance.
+    #[test]
+    fn resistance_at_the_end_of_a_range_below_zero_inverts() {
+        let mut failures = Vec::new();
+        for k in 0..2000 {
+            let t_max = -199.9 + 0.0997 * f64::from(k);
+            for r0 in [25.0, 24.99999999999999, 100.0, 1000.0] {
+                let c = CvdCoefficients::from_certificate(r0, IEC_A, IEC_B, IEC_C, -200.0, t_max)
+                    .unwrap();
+                match c.temperature(c.resistance(t_max).unwrap()) {
+                    Ok(t) if (t - t_max).abs() < 1e-9 => {}
+                    other => failures.push((r0, t_max, other)),
+                }
+            }
+        }
+        assert!(
+            failures.is_empty(),
+            "{} failures, first {:?}",
+            failures.len(),
+            failures[0]
+        );
+    }
+
+    /// Found by fuzzing (fuzz target `thermo`): R0 = 6.23e-322 Ω was accepted and gave
+    /// dR/dt = 0 at 646.3 °C; R0 = 1e308 Ω gave R(850 °C) = inf; B = -1e305 with the range
+    /// -200 °C to -100 °C passed the slope check and gave R(-200 °C) = -inf.
+    #[test]
+    fn curves_a_double_cannot_carry_are_refused() {
+        for r0 in [6.23e-322, 1e-310, 1e308] {
+            let err = CvdCoefficients::iec_60751(r0).unwrap_err();
+            assert!(
+                err.to_string().contains("a computer can represent"),
+                "{r0}: {err}"
+            );
+        }
+        let err = CvdCoefficients::from_certificate(100.0, IEC_A, -1e305, IEC_C, -200.0, -100.0)
+            .unwrap_err();
+        assert!(matches!(
+            err,
+            ThermoError::InvalidParameter {
+                name: "coefficients",
+                ..
+            }
+        ));
+        // A so large that R(-200 °C) = R0 (1 - 200 A + ...) is negative while R increases.
+        assert!(CvdCoefficients::from_certificate(100.0, 1.0, 0.0, 0.0, -200.0, 0.0).is_err());
+        // The ordinary extremes still pass: a 0.25 Ω high-temperature thermometer and a
+        // 10 kΩ one (common practice: such R0 exist).
+        for r0 in [0.25, 1e4] {
+            let c = CvdCoefficients::iec_60751(r0).unwrap();
+            assert!(c.sensitivity_ohm_per_k(850.0).unwrap() > 0.0);
+        }
     }
 
     #[test]

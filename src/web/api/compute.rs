@@ -266,6 +266,14 @@ pub fn fit(request: &FitRequest) -> Result<FitResponse, AppError> {
             ));
         }
         let (y, u) = result.evaluate(at);
+        if !(y.is_finite() && u.is_finite()) {
+            return Err(AppError::invalid(
+                format!("evaluate_at[{i}]"),
+                format!(
+                    "the fitted function or its uncertainty at {at} is beyond the floating-point range; evaluate nearer the fitted range {lo} to {hi}"
+                ),
+            ));
+        }
         let extrapolated = at < lo || at > hi;
         if extrapolated {
             warnings.push(format!(
