@@ -301,17 +301,24 @@ impl CvdCoefficients {
         // A resistance within the tolerance beyond a range end is taken as that end.
         let w = r.max(r_lo).min(r_hi) / self.r0;
         let quadratic = self.quadratic_root(w);
-        if w >= 1.0 {
+        if w >= 1.0 && quadratic.is_finite() {
             // Rounding may put the root a few ulps outside the range; the range holds it.
             return Ok(quadratic.max(self.t_min).min(self.t_max));
         }
-        let hi = self.t_max.min(0.0);
+        // Below 0 °C Newton iteration on the negative part of the range; should the closed
+        // form find no root (overflow in B/A with a range of a few subnormal temperatures,
+        // found by fuzzing), Newton iteration on the whole range, where R increases.
+        let (lo, hi) = if w >= 1.0 {
+            (self.t_min, self.t_max)
+        } else {
+            (self.t_min, self.t_max.min(0.0))
+        };
         solve_increasing(
             |t| {
                 let (v, d) = self.ratio(t);
                 (v - w, d)
             },
-            self.t_min,
+            lo,
             hi,
             quadratic,
             RATIO_TOLERANCE,
@@ -324,14 +331,30 @@ impl CvdCoefficients {
         })
     }
 
-    /// Root of 1 + A t + B t^2 = w nearest 0 °C, in the cancellation-free form.
+    /// Root of 1 + A t + B t^2 = w nearest 0 °C, in the cancellation-free form
+    /// t = 2x / (A + sqrt(A^2 + 4Bx)), x = w - 1, with the square root taken of a scaled
+    /// discriminant so that no intermediate overflows: with m = max(A, sqrt(4|B||x|)),
+    /// sqrt(A^2 + 4Bx) = m sqrt((A/m)^2 ± (sqrt(4|B||x|)/m)^2). The plain form squared A and
+    /// multiplied B by x; for A = 2e183 or B = 4e204 (found by fuzzing, on curves whose
+    /// resistances are finite) that overflowed and the root came out as 0. NaN when there is
+    /// no real root.
     fn quadratic_root(&self, w: f64) -> f64 {
         let x = w - 1.0;
-        let disc = self.a * self.a + 4.0 * self.b * x;
-        if disc < 0.0 {
+        if x == 0.0 {
+            return 0.0;
+        }
+        let p = 2.0 * self.b.abs().sqrt() * x.abs().sqrt();
+        let m = self.a.max(p);
+        let sign = if (self.b < 0.0) == (x < 0.0) {
+            1.0
+        } else {
+            -1.0
+        };
+        let disc = (self.a / m).powi(2) + sign * (p / m).powi(2);
+        if disc.is_nan() || disc < 0.0 {
             return f64::NAN;
         }
-        2.0 * x / (self.a + disc.sqrt())
+        2.0 * (x / (self.a + m * disc.sqrt()))
     }
 
     /// W(t) = R(t)/R0 and dW/dt.
@@ -786,6 +809,64 @@ mod tests {
             failures.len(),
             failures[0]
         );
+    }
+
+    /// Found by fuzzing (fuzz target `thermo`): B = C = 4.14e204 on 0 °C to 110.8 °C; the
+    /// product 4Bx in the discriminant overflowed and every resistance inverted to 0 °C.
+    #[test]
+    fn closed_form_inverse_survives_a_huge_b() {
+        let c = CvdCoefficients::from_certificate(
+            1612.193416645371,
+            0.0038828,
+            4.1410356681522016e204,
+            4.1410356681522016e204,
+            -2.25813638367e-312,
+            110.79999999999995,
+        )
+        .unwrap();
+        for t in [1e-3, 55.400000007503536, 110.0] {
+            let r = c.resistance(t).unwrap();
+            let back = c.temperature(r).unwrap();
+            assert!((back - t).abs() <= 1e-12 * t, "{t} -> {r} -> {back}");
+        }
+    }
+
+    /// Found by fuzzing (fuzz target `thermo`): with A = 2.12e183 (a curve the constructor
+    /// accepts: R stays finite on 0 °C to 327 °C) the closed-form inverse squared A,
+    /// overflowed and returned the lower range end for every resistance.
+    #[test]
+    fn closed_form_inverse_survives_a_huge_a() {
+        let c = CvdCoefficients::from_certificate(
+            999.9999999999997,
+            2.1245519752398347e183,
+            -7.029252929686108e-7,
+            -5.349944828189919e-12,
+            0.0,
+            327.09179687597396,
+        )
+        .unwrap();
+        for t in [1e-3, 63.45580859393893, 300.0] {
+            let r = c.resistance(t).unwrap();
+            let back = c.temperature(r).unwrap();
+            assert!((back - t).abs() <= 1e-12 * t, "{t} -> {r} -> {back}");
+        }
+        // B/A overflows (B = -6.9e307) on a range of subnormal temperatures, where W is 1
+        // at both ends: the resistance R0 inverts to the range.
+        let c = CvdCoefficients::from_certificate(
+            1231.4782031899053,
+            0.0039236,
+            -6.937964130654512e307,
+            1.5e-323,
+            -2e-323,
+            -1.5e-323,
+        )
+        .unwrap();
+        let back = c.temperature(1231.4782031899053).unwrap();
+        assert!((-2e-323..=-1.5e-323).contains(&back), "{back}");
+        // The nominal curve still inverts as before: R(100 °C) = 138.5055 Ω (prt.json,
+        // the project's reference data; exact: 100 (1 + 0.39083 - 0.005775)).
+        let pt = CvdCoefficients::pt100();
+        assert!((pt.temperature(138.5055).unwrap() - 100.0).abs() < 1e-4);
     }
 
     /// Found by fuzzing (fuzz target `thermo`): R0 = 6.23e-322 Ω was accepted and gave
