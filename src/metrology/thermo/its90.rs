@@ -564,6 +564,21 @@ impl Sprt {
                 reason: format!("must be positive; got {} Ω", number_text(r)),
             });
         }
+        // `resistance` looks for W up to twice W_r of the upper limit (at most 3.38, at the
+        // aluminium point): R(273.16 K) times 16 must be finite for every resistance of the
+        // sub-range to be a number, and R(273.16 K) must be a normal number for W = R/R_tpw
+        // to keep its digits. Found by fuzzing: R(273.16 K) = 1.5e308 Ω gave R = inf.
+        if !(r >= f64::MIN_POSITIVE && (16.0 * r).is_finite()) {
+            return Err(ThermoError::InvalidParameter {
+                name: "resistance at the triple point of water",
+                reason: format!(
+                    "must lie between {} Ω and {} Ω; got {} Ω",
+                    number_text(f64::MIN_POSITIVE),
+                    number_text(f64::MAX / 16.0),
+                    number_text(r)
+                ),
+            });
+        }
         let (a, b, c) = sub_range.coefficients();
         require_finite("deviation coefficient a", a)?;
         require_finite("deviation coefficient b", b)?;
@@ -1069,6 +1084,21 @@ mod tests {
             wr_low(300.0).unwrap_err().to_string(),
             "the ITS-90 reference function of eq. (9a) is defined from 13.8033 K to 273.16 K; got 300 K"
         );
+        // Found by fuzzing (fuzz target `thermo`): R(273.16 K) = 1.5e308 Ω was accepted and
+        // R(339 K) came out as inf; a subnormal R(273.16 K) kept a few bits of W.
+        for r_tpw in [1.5e308, 1.2e307, 1e-310] {
+            let e = Sprt::new(r_tpw, sr).unwrap_err();
+            assert!(e.to_string().contains("must lie between"), "{e}");
+        }
+        let big = Sprt::new(
+            1e307,
+            SprtSubRange::WaterToAluminium {
+                a: 1e-4,
+                b: 0.0,
+                c: 0.0,
+            },
+        );
+        assert!(big.unwrap().resistance(933.473).unwrap().is_finite());
         assert!(matches!(wr(f64::NAN), Err(ThermoError::NotFinite { .. })));
         assert!(matches!(
             t90_from_wr(5.0),

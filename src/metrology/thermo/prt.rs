@@ -331,21 +331,30 @@ impl CvdCoefficients {
         })
     }
 
-    /// Root of 1 + A t + B t^2 = w nearest 0 °C, in the cancellation-free form, written
-    /// with A factored out, t = (2x/A) / (1 + sqrt(1 + 4 (B/A)(x/A))) with x = w - 1, so
-    /// that no intermediate overflows: the plain form squared A, and for A = 2e183 (found by
-    /// fuzzing) A^2 overflowed and the root came out as 0. NaN when there is no real root.
+    /// Root of 1 + A t + B t^2 = w nearest 0 °C, in the cancellation-free form
+    /// t = 2x / (A + sqrt(A^2 + 4Bx)), x = w - 1, with the square root taken of a scaled
+    /// discriminant so that no intermediate overflows: with m = max(A, sqrt(4|B||x|)),
+    /// sqrt(A^2 + 4Bx) = m sqrt((A/m)^2 ± (sqrt(4|B||x|)/m)^2). The plain form squared A and
+    /// multiplied B by x; for A = 2e183 or B = 4e204 (found by fuzzing, on curves whose
+    /// resistances are finite) that overflowed and the root came out as 0. NaN when there is
+    /// no real root.
     fn quadratic_root(&self, w: f64) -> f64 {
         let x = w - 1.0;
         if x == 0.0 {
-            // Also where B/A overflows and (B/A)(x/A) would be inf times 0.
             return 0.0;
         }
-        let disc = 1.0 + 4.0 * (self.b / self.a) * (x / self.a);
+        let p = 2.0 * self.b.abs().sqrt() * x.abs().sqrt();
+        let m = self.a.max(p);
+        let sign = if (self.b < 0.0) == (x < 0.0) {
+            1.0
+        } else {
+            -1.0
+        };
+        let disc = (self.a / m).powi(2) + sign * (p / m).powi(2);
         if disc.is_nan() || disc < 0.0 {
             return f64::NAN;
         }
-        2.0 * (x / self.a) / (1.0 + disc.sqrt())
+        2.0 * (x / (self.a + m * disc.sqrt()))
     }
 
     /// W(t) = R(t)/R0 and dW/dt.
@@ -800,6 +809,26 @@ mod tests {
             failures.len(),
             failures[0]
         );
+    }
+
+    /// Found by fuzzing (fuzz target `thermo`): B = C = 4.14e204 on 0 °C to 110.8 °C; the
+    /// product 4Bx in the discriminant overflowed and every resistance inverted to 0 °C.
+    #[test]
+    fn closed_form_inverse_survives_a_huge_b() {
+        let c = CvdCoefficients::from_certificate(
+            1612.193416645371,
+            0.0038828,
+            4.1410356681522016e204,
+            4.1410356681522016e204,
+            -2.25813638367e-312,
+            110.79999999999995,
+        )
+        .unwrap();
+        for t in [1e-3, 55.400000007503536, 110.0] {
+            let r = c.resistance(t).unwrap();
+            let back = c.temperature(r).unwrap();
+            assert!((back - t).abs() <= 1e-12 * t, "{t} -> {r} -> {back}");
+        }
     }
 
     /// Found by fuzzing (fuzz target `thermo`): with A = 2.12e183 (a curve the constructor
