@@ -21,6 +21,10 @@ fn body_limit() -> usize {
     BODY_LIMIT.load(Ordering::Relaxed)
 }
 
+/// The body limit of the router handling a request (a request extension).
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct BodyLimit(pub(crate) usize);
+
 /// A JSON request body with problem-details rejections: 415 without a JSON
 /// content type, 413 over the body limit, 400 for text that is not JSON
 /// (with line and column), 422 for JSON of the wrong shape, naming the
@@ -53,13 +57,15 @@ where
                     .to_owned(),
             ));
         }
+        let limit = req
+            .extensions()
+            .get::<BodyLimit>()
+            .map_or_else(body_limit, |b| b.0);
         let bytes = axum::body::Bytes::from_request(req, state)
             .await
             .map_err(|r| {
                 if r.status() == StatusCode::PAYLOAD_TOO_LARGE {
-                    AppError::PayloadTooLarge {
-                        limit_bytes: body_limit(),
-                    }
+                    AppError::PayloadTooLarge { limit_bytes: limit }
                 } else {
                     AppError::BadRequest(format!("the request body could not be read: {r}"))
                 }

@@ -82,6 +82,10 @@ pub fn router(state: AppState) -> Router {
     routes
         .with_state(state)
         .layer(DefaultBodyLimit::max(http.body_limit_bytes))
+        // The limit travels with each request so that a 413 states the
+        // limit of the router that answered (several routers may live in
+        // one process, e.g. in tests).
+        .layer(axum::Extension(extract::BodyLimit(http.body_limit_bytes)))
         // A hard cap for bodies read without an extractor, slightly above
         // the extractor limit so that extractors produce the clearer error.
         .layer(RequestBodyLimitLayer::new(http.body_limit_bytes + 1024))
