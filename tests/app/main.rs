@@ -6,6 +6,7 @@ mod accounts;
 mod certificates;
 mod compute;
 mod foundation;
+mod fuzz_regressions;
 mod helpers;
 mod pages;
 mod records;
