@@ -8,6 +8,7 @@ mod certificates;
 mod compute;
 mod faults;
 mod foundation;
+mod fuzz_regressions;
 mod helpers;
 mod hostile;
 mod media;
