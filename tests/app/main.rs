@@ -6,6 +6,7 @@ mod accounts;
 mod certificates;
 mod compute;
 mod foundation;
+mod generate;
 mod helpers;
 mod pages;
 mod records;
