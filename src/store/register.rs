@@ -9,10 +9,13 @@
 //! number). So the search picks the statement by the filters given:
 //!
 //! * equipment: the `certificate_equipment` index (equipment, certificate);
-//! * outcome: the `certificate_facts_outcome` index (outcome, certificate);
+//! * an outcome other than "pass" (the usual one; the others are the few a
+//!   lab looks for): the `certificate_facts_outcome` index (outcome,
+//!   certificate);
 //! * text: the certificates whose number matches (a scan of the number
 //!   index only) and those of the instruments whose serial or customer
-//!   matches (found in the small instrument and customer tables);
+//!   matches (found in the small instrument and customer tables, then
+//!   through the certificate-by-instrument index);
 //! * dates: the `certificate_issued` index (issue date, id), then sorted;
 //! * otherwise: certificates newest first, every filter tested per row.
 //!
@@ -44,7 +47,7 @@ impl Driver {
     pub fn for_filter(f: &RegisterFilter) -> Self {
         if f.equipment_id != 0 {
             Self::Equipment
-        } else if !f.outcome.is_empty() {
+        } else if !f.outcome.is_empty() && f.outcome != "pass" {
             Self::Outcome
         } else if !f.text.is_empty() {
             Self::Text
@@ -198,12 +201,12 @@ pub async fn search_with(
                 RegisterLine,
                 r#"WITH hit (id) AS (
                        SELECT c.id FROM certificate c
-                       WHERE c.number LIKE ?2 ESCAPE '\' AND c.id < ?1
+                       WHERE c.number LIKE ?2 ESCAPE '\'
                        UNION
                        SELECT c.id FROM instrument i
-                       JOIN customer cu ON cu.id = i.customer_id
-                       JOIN certificate c ON c.instrument_id = i.id
-                       WHERE (i.serial LIKE ?2 ESCAPE '\' OR cu.name LIKE ?2 ESCAPE '\') AND c.id < ?1
+                       CROSS JOIN customer cu ON cu.id = i.customer_id
+                       CROSS JOIN certificate c ON c.instrument_id = i.id
+                       WHERE i.serial LIKE ?2 ESCAPE '\' OR cu.name LIKE ?2 ESCAPE '\'
                    )
                    SELECT c.id AS "id!: i64", c.number, c.revision, c.issued_on, ru.performed_on AS calibrated_on,
                           i.serial, i.kind, cu.name AS customer, f.outcome, e.asset_id AS reference,
@@ -216,7 +219,7 @@ pub async fn search_with(
                    JOIN instrument i ON i.id = c.instrument_id
                    JOIN customer cu ON cu.id = i.customer_id
                    LEFT JOIN certificate_replacement r ON r.certificate_id = c.id
-                   WHERE c.issued_on BETWEEN ?3 AND ?4
+                   WHERE c.id < ?1 AND c.issued_on BETWEEN ?3 AND ?4
                      AND (?5 = '' OR i.kind = ?5)
                      AND (?6 = '' OR f.outcome = ?6)
                      AND (?7 = 0 OR ru.reference_id = ?7 OR ru.reference_readout_id = ?7
