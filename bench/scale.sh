@@ -26,6 +26,7 @@ export SQLX_OFFLINE=true
 
 need wrk wrk
 need curl curl
+need /usr/bin/time time
 
 if [ -n "${BIN:-}" ]; then
     bin="$BIN"
