@@ -19,6 +19,7 @@
 pub mod config;
 pub mod demo;
 pub mod domain;
+pub mod generate;
 pub mod metrology;
 pub mod report;
 pub mod store;

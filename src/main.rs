@@ -56,6 +56,20 @@ enum Command {
         #[command(flatten)]
         db: DatabaseArg,
     },
+    /// Fill a demo database with invented certificates for scale measurements.
+    Generate {
+        #[command(flatten)]
+        db: DatabaseArg,
+        /// Certificates to issue (at least --instruments).
+        #[arg(long)]
+        certificates: usize,
+        /// Instruments to register (at least 3).
+        #[arg(long)]
+        instruments: usize,
+        /// Seed of the invented data (the same seed gives the same records).
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+    },
     /// Reference conversions: thermocouples, PRTs, ITS-90, tolerance classes.
     Convert(convert::ConvertArgs),
     /// Run the known-answer checks of the numerical core and print a dated report.
@@ -197,6 +211,34 @@ async fn run(cli: Cli) -> Result<(), String> {
                 db.database.display()
             );
             pool.close().await;
+            Ok(())
+        }
+        Command::Generate {
+            db,
+            certificates,
+            instruments,
+            seed,
+        } => {
+            let plan = juncture::generate::Plan {
+                certificates,
+                instruments,
+                seed,
+            };
+            plan.check().map_err(|e| e.to_string())?;
+            let pool = open(&db.database).await?;
+            let started = std::time::Instant::now();
+            let result = juncture::generate::generate(&pool, plan).await;
+            pool.close().await;
+            let s = result.map_err(|e| e.to_string())?;
+            println!(
+                "generated {} customers, {} instruments and {} certificates ({} from evaluated template runs) in {:.1} s into {}",
+                s.customers,
+                s.instruments,
+                s.certificates,
+                s.templates,
+                started.elapsed().as_secs_f64(),
+                db.database.display()
+            );
             Ok(())
         }
         Command::Convert(args) => convert::run(args),

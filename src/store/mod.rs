@@ -6,10 +6,13 @@
 
 pub mod accounts;
 pub mod audit;
+pub mod bulk;
 pub mod certificates;
 pub mod equipment;
 pub mod lab;
+pub mod lookups;
 pub mod records;
+pub mod register;
 pub mod runs;
 pub mod sessions;
 pub mod switches;

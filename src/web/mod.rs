@@ -7,6 +7,7 @@
 pub mod api;
 pub mod assets;
 pub mod auth;
+pub mod cache;
 pub mod error;
 pub mod extract;
 pub mod metrics;
@@ -40,6 +41,8 @@ pub struct AppState {
     pub metrics: Arc<metrics::Metrics>,
     /// HTTP limits, shown in error messages (e.g. the body limit).
     pub http: Arc<HttpConfig>,
+    /// What is rendered from issued certificates, kept by fingerprint.
+    pub artefacts: Arc<cache::Artefacts>,
 }
 
 impl AppState {
@@ -50,6 +53,7 @@ impl AppState {
             db,
             metrics: Arc::new(metrics::Metrics::default()),
             http: Arc::new(http),
+            artefacts: Arc::new(cache::Artefacts::default()),
         }
     }
 }

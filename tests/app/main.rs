@@ -9,6 +9,7 @@ mod compute;
 mod faults;
 mod foundation;
 mod fuzz_regressions;
+mod generate;
 mod helpers;
 mod hostile;
 mod media;

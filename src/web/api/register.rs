@@ -148,7 +148,8 @@ pub async fn search(state: &AppState, q: &RegisterQuery) -> Result<RegisterPage,
     let filter = filter_of(&mut conn, q).await?;
     let limit = q.limit.unwrap_or(50);
     let lines =
-        certificates::register(&mut conn, &filter, q.before.unwrap_or(i64::MAX), limit).await?;
+        crate::store::register::search(&mut conn, &filter, q.before.unwrap_or(i64::MAX), limit)
+            .await?;
     let next_before = (lines.len() as i64 == limit)
         .then(|| lines.last().map(|l| l.id))
         .flatten();

@@ -2,7 +2,10 @@
 //! certificate), return to the technician, certificate snapshots and the
 //! deviation-function API of an instrument's current certificate.
 
+use std::sync::Arc;
+
 use axum::Json;
+use axum::body::Bytes;
 use axum::extract::{Path, State};
 use axum::http::{HeaderMap, HeaderValue, StatusCode, header};
 use axum::response::{IntoResponse, Response};
@@ -15,6 +18,7 @@ use crate::metrology::calib::temperature_from_emf;
 use crate::metrology::thermo::ThermocoupleType;
 use crate::report::snapshot::{CertificateSnapshot, FunctionBlock};
 use crate::store::accounts::Role;
+use crate::store::lookups::{self, CertificateHeader};
 use crate::store::runs::{self, Run};
 use crate::store::{self, certificates, lab, records};
 use crate::web::auth::Caller;
@@ -283,10 +287,12 @@ pub async fn certificate_json(
     ApiQuery(q): ApiQuery<RevisionQuery>,
 ) -> ApiResult<Response> {
     let mut conn = state.db.acquire().await?;
-    let c = certificates::by_number(&mut conn, &number, q.revision)
+    let c = lookups::by_number(&mut conn, &number, q.revision)
         .await?
         .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
-    let mut response = ([(header::CONTENT_TYPE, "application/json")], c.snapshot).into_response();
+    let body = cached_snapshot_json(&state, &mut conn, &c).await?;
+    drop(conn);
+    let mut response = ([(header::CONTENT_TYPE, "application/json")], body).into_response();
     let h = response.headers_mut();
     if let Ok(v) = HeaderValue::from_str(&c.sha256) {
         h.insert("x-certificate-sha256", v);
@@ -295,15 +301,6 @@ pub async fn certificate_json(
         h.insert(header::ETAG, v);
     }
     Ok(response)
-}
-
-async fn current(
-    conn: &mut sqlx::SqliteConnection,
-    serial: &str,
-) -> Result<(certificates::Certificate, CertificateSnapshot), AppError> {
-    current_with_instrument(conn, serial)
-        .await
-        .map(|(c, s, _)| (c, s))
 }
 
 async fn current_with_instrument(
@@ -332,6 +329,103 @@ async fn current_with_instrument(
     let snapshot: CertificateSnapshot = serde_json::from_str(&c.snapshot)
         .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
     Ok((c, snapshot, instrument))
+}
+
+/// The current certificate of the instrument `serial`, without reading its
+/// snapshot; when there is none, the full look-up names what is missing.
+async fn current_header(
+    conn: &mut sqlx::SqliteConnection,
+    serial: &str,
+) -> Result<CertificateHeader, AppError> {
+    if let Some(h) = lookups::current_by_serial(conn, serial).await? {
+        return Ok(h);
+    }
+    let (c, _, instrument) = current_with_instrument(conn, serial).await?;
+    Ok(CertificateHeader {
+        id: c.id,
+        number: c.number,
+        revision: c.revision,
+        issued_on: c.issued_on,
+        sha256: c.sha256,
+        tc_type: instrument.tc_type,
+        replaced_by_id: c.replaced_by_id,
+    })
+}
+
+/// The snapshot JSON of certificate row `id`.
+async fn snapshot_json(conn: &mut sqlx::SqliteConnection, id: i64) -> Result<String, AppError> {
+    lookups::snapshot(conn, id)
+        .await?
+        .ok_or_else(|| AppError::NotFound(format!("certificate row {id} is gone")))
+}
+
+/// The snapshot of certificate `h` as stored (canonical JSON), kept in
+/// memory by its SHA-256 once read.
+///
+/// # Errors
+/// A database error.
+pub async fn cached_snapshot_json(
+    state: &AppState,
+    conn: &mut sqlx::SqliteConnection,
+    h: &CertificateHeader,
+) -> Result<Bytes, AppError> {
+    if let Some(json) = state.artefacts.snapshot_json.get(&h.sha256) {
+        return Ok(json);
+    }
+    let json = Bytes::from(snapshot_json(conn, h.id).await?);
+    state
+        .artefacts
+        .snapshot_json
+        .insert(h.sha256.clone(), json.clone(), json.len());
+    Ok(json)
+}
+
+/// The snapshot of certificate `h` parsed, kept in memory by its SHA-256.
+///
+/// # Errors
+/// A database error or an unreadable stored snapshot.
+pub async fn cached_snapshot(
+    state: &AppState,
+    conn: &mut sqlx::SqliteConnection,
+    h: &CertificateHeader,
+) -> Result<Arc<CertificateSnapshot>, AppError> {
+    if let Some(s) = state.artefacts.snapshot.get(&h.sha256) {
+        return Ok(s);
+    }
+    let json = cached_snapshot_json(state, conn, h).await?;
+    let snapshot: CertificateSnapshot = serde_json::from_slice(&json)
+        .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
+    let snapshot = Arc::new(snapshot);
+    state
+        .artefacts
+        .snapshot
+        .insert(h.sha256.clone(), snapshot.clone(), 2 * json.len());
+    Ok(snapshot)
+}
+
+/// The deviation function of certificate `h` (None when it states none),
+/// parsed once per snapshot and then kept in memory.
+async fn function_of(
+    state: &AppState,
+    conn: &mut sqlx::SqliteConnection,
+    h: &CertificateHeader,
+) -> Result<Option<Arc<FunctionBlock>>, AppError> {
+    if let Some(f) = state.artefacts.function.get(&h.sha256) {
+        return Ok(f);
+    }
+    let json = snapshot_json(conn, h.id).await?;
+    let snapshot: CertificateSnapshot = serde_json::from_str(&json)
+        .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
+    let f = snapshot.deviation_function.map(Arc::new);
+    let weight = f.as_ref().map_or(64, |f| {
+        512 + f.usage.len()
+            + 8 * (f.coefficients.len() + f.covariance.iter().map(Vec::len).sum::<usize>())
+    });
+    state
+        .artefacts
+        .function
+        .insert(h.sha256.clone(), f.clone(), weight);
+    Ok(f)
 }
 
 /// The deviation function of an instrument's current certificate (stable
@@ -369,7 +463,8 @@ pub struct DeviationOut {
     pub certificate_sha256: String,
 }
 
-/// `GET /api/v1/instruments/{serial}/deviation`.
+/// `GET /api/v1/instruments/{serial}/deviation`. The answer is kept in
+/// memory by the snapshot's SHA-256 (an issued certificate never changes).
 pub async fn deviation(
     State(state): State<AppState>,
     _caller: Caller,
@@ -377,8 +472,8 @@ pub async fn deviation(
     Path(serial): Path<String>,
 ) -> ApiResult<Response> {
     let mut conn = state.db.acquire().await?;
-    let (c, s) = current(&mut conn, &serial).await?;
-    let tag = etag(&c.sha256);
+    let h = current_header(&mut conn, &serial).await?;
+    let tag = etag(&h.sha256);
     let cache = [
         (header::ETAG, tag.clone()),
         (header::CACHE_CONTROL, "private, no-cache".to_owned()),
@@ -386,29 +481,48 @@ pub async fn deviation(
     if not_modified(&headers, &tag) {
         return Ok((StatusCode::NOT_MODIFIED, cache).into_response());
     }
-    let f = s.deviation_function.ok_or_else(|| {
-        AppError::NotFound(format!(
-            "certificate {} has no deviation function",
-            c.number
-        ))
-    })?;
-    let out = DeviationOut {
-        serial,
-        certificate_number: c.number,
-        revision: c.revision,
-        issued_on: c.issued_on,
-        form: f.form,
-        variable: f.variable,
-        coefficients: f.coefficients,
-        covariance: f.covariance,
-        emf_coefficients: f.emf_coefficients,
-        valid_from_t_c: f.valid_from_t_c,
-        valid_to_t_c: f.valid_to_t_c,
-        expanded_uncertainty_c: f.expanded_uncertainty_c,
-        coverage_factor: f.coverage_factor,
-        certificate_sha256: c.sha256,
+    let body = if let Some(body) = state.artefacts.deviation_json.get(&h.sha256) {
+        body
+    } else {
+        let f = function_of(&state, &mut conn, &h).await?.ok_or_else(|| {
+            AppError::NotFound(format!(
+                "certificate {} has no deviation function",
+                h.number
+            ))
+        })?;
+        let out = DeviationOut {
+            serial,
+            certificate_number: h.number.clone(),
+            revision: h.revision,
+            issued_on: h.issued_on.clone(),
+            form: f.form.clone(),
+            variable: f.variable.clone(),
+            coefficients: f.coefficients.clone(),
+            covariance: f.covariance.clone(),
+            emf_coefficients: f.emf_coefficients.clone(),
+            valid_from_t_c: f.valid_from_t_c,
+            valid_to_t_c: f.valid_to_t_c,
+            expanded_uncertainty_c: f.expanded_uncertainty_c,
+            coverage_factor: f.coverage_factor,
+            certificate_sha256: h.sha256.clone(),
+        };
+        let body =
+            Bytes::from(serde_json::to_vec(&out).map_err(|e| AppError::Internal(e.to_string()))?);
+        state
+            .artefacts
+            .deviation_json
+            .insert(h.sha256.clone(), body.clone(), body.len());
+        body
     };
-    Ok((cache, Json(out)).into_response())
+    Ok((
+        cache,
+        [(
+            header::CONTENT_TYPE,
+            HeaderValue::from_static("application/json"),
+        )],
+        body,
+    )
+        .into_response())
 }
 
 /// Query of the evaluate endpoint: exactly one of `t_c` and `emf_mv`.
@@ -466,13 +580,14 @@ pub async fn evaluate(
     ApiQuery(q): ApiQuery<EvaluateQuery>,
 ) -> ApiResult<Json<EvaluateOut>> {
     let mut conn = state.db.acquire().await?;
-    let (c, s, instrument) = current_with_instrument(&mut conn, &serial).await?;
-    let f = s.deviation_function.ok_or_else(|| {
+    let c = current_header(&mut conn, &serial).await?;
+    let f = function_of(&state, &mut conn, &c).await?.ok_or_else(|| {
         AppError::NotFound(format!(
             "certificate {} has no deviation function",
             c.number
         ))
     })?;
+    drop(conn);
     let (t_c, emf) = match (q.t_c, q.emf_mv) {
         (Some(t), None) => {
             if !t.is_finite() {
@@ -484,16 +599,16 @@ pub async fn evaluate(
             (t, None)
         }
         (None, Some(e)) => {
-            let tc: ThermocoupleType = instrument
+            let tc: ThermocoupleType = c
                 .tc_type
                 .as_deref()
                 .and_then(|t| t.parse().ok())
                 .ok_or_else(|| {
-                AppError::invalid(
-                    "emf_mv",
-                    format!("instrument {serial} is not a thermocouple; ask with t_c (°C)"),
-                )
-            })?;
+                    AppError::invalid(
+                        "emf_mv",
+                        format!("instrument {serial} is not a thermocouple; ask with t_c (°C)"),
+                    )
+                })?;
             let coefficients = f.emf_coefficients.as_deref().ok_or_else(|| {
                 AppError::invalid(
                     "emf_mv",
@@ -550,11 +665,10 @@ pub async fn certificate_pdf(
     ApiQuery(q): ApiQuery<RevisionQuery>,
 ) -> ApiResult<Response> {
     let mut conn = state.db.acquire().await?;
-    let c = certificates::by_number(&mut conn, &number, q.revision)
+    let c = lookups::by_number(&mut conn, &number, q.revision)
         .await?
         .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
-    drop(conn);
-    let pdf = pdf_of(&c.snapshot).await?;
+    let pdf = cached_pdf(&state, &mut conn, &c).await?;
     let disposition = format!(
         "inline; filename=\"{}-rev{}.pdf\"",
         c.number.replace(['"', '\\', '/'], "_"),
@@ -570,6 +684,28 @@ pub async fn certificate_pdf(
         response.headers_mut().insert(header::ETAG, v);
     }
     Ok(response)
+}
+
+/// The PDF of certificate `h`: rendered once from its snapshot, then kept
+/// in memory by the snapshot's SHA-256 (bounded; oldest evicted first).
+///
+/// # Errors
+/// As [`pdf_of`], or a database error.
+pub async fn cached_pdf(
+    state: &AppState,
+    conn: &mut sqlx::SqliteConnection,
+    h: &CertificateHeader,
+) -> Result<Bytes, AppError> {
+    if let Some(pdf) = state.artefacts.pdf.get(&h.sha256) {
+        return Ok(pdf);
+    }
+    let json = snapshot_json(conn, h.id).await?;
+    let pdf = Bytes::from(pdf_of(&json).await?);
+    state
+        .artefacts
+        .pdf
+        .insert(h.sha256.clone(), pdf.clone(), pdf.len());
+    Ok(pdf)
 }
 
 /// Renders a stored snapshot as PDF off the async workers.

@@ -2,6 +2,7 @@
 //! and the certificate as a page.
 
 use std::collections::HashMap;
+use std::sync::Arc;
 
 use askama::Template;
 use axum::Form;
@@ -14,7 +15,7 @@ use crate::report::pdf::{SwitchChangeText, SwitchRowText};
 use crate::report::snapshot::{CertificateSnapshot, SwitchBlock};
 use crate::store::{certificates, records, runs};
 use crate::web::api::records::ApiError;
-use crate::web::api::review::{approve_run, pdf_of, return_run};
+use crate::web::api::review::{approve_run, cached_pdf, cached_snapshot, return_run};
 use crate::web::auth::AuthError;
 use crate::web::session::PageUser;
 use crate::web::{AppError, AppState};
@@ -113,21 +114,21 @@ pub async fn return_to_technician(
 
 #[derive(Template)]
 #[template(path = "certificate.html")]
-struct CertificatePage {
+struct CertificatePage<'a> {
     nav: Nav,
     csrf: String,
     may_amend: bool,
-    c: CertificateSnapshot,
+    c: &'a CertificateSnapshot,
     sha256: String,
     replaced: bool,
-    plot_svg: String,
+    plot_svg: &'a str,
 }
 
 fn opt(v: Option<f64>, unit: &str) -> String {
     v.map_or_else(|| "not recorded".to_owned(), |v| format!("{v} {unit}"))
 }
 
-impl CertificatePage {
+impl CertificatePage<'_> {
     fn ambient(&self) -> String {
         format!(
             "{}, relative humidity {}",
@@ -179,45 +180,9 @@ impl CertificatePage {
     }
 }
 
-/// `?revision=N` of the certificate pages (latest when absent).
-fn revision_of(params: &HashMap<String, String>) -> Result<Option<i64>, AppError> {
-    match params.get("revision").map(|r| r.trim()) {
-        None | Some("") => Ok(None),
-        Some(r) => r
-            .parse::<i64>()
-            .ok()
-            .filter(|r| *r >= 0)
-            .map(Some)
-            .ok_or_else(|| {
-                AppError::invalid(
-                    "revision",
-                    format!("{r:?} is not a revision number (0, 1, 2, ...)"),
-                )
-            }),
-    }
-}
-
-/// `GET /certificates/{number}[?revision=N]`: a revision (the latest by
-/// default) as a page.
-pub async fn certificate(
-    State(state): State<AppState>,
-    user: PageUser,
-    Path(number): Path<String>,
-    axum::extract::Query(params): axum::extract::Query<HashMap<String, String>>,
-) -> Result<Html<String>, PageError> {
-    let revision = revision_of(&params)?;
-    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
-    let row = certificates::by_number(&mut conn, &number, revision)
-        .await
-        .map_err(AppError::from)?
-        .ok_or_else(|| {
-            AppError::NotFound(match revision {
-                Some(r) => format!("there is no revision {r} of certificate {number:?}"),
-                None => format!("there is no certificate {number:?}"),
-            })
-        })?;
-    let c: CertificateSnapshot = serde_json::from_str(&row.snapshot)
-        .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
+/// The deviation plot of a certificate as SVG, from its snapshot.
+#[must_use]
+pub fn certificate_plot_svg(c: &CertificateSnapshot) -> String {
     let plot = crate::report::plot::DeviationPlot {
         title: format!("Deviation of {}", c.item.serial),
         points: c
@@ -255,21 +220,100 @@ pub async fn certificate(
         width_px: 720,
         height_px: 380,
     };
+    crate::report::plot::render_svg(&plot)
+}
+
+/// The certificate page for a stored snapshot: `nav` and `csrf` of the
+/// viewer, whether the amendment form is shown, the fingerprint, whether a
+/// later revision replaced it, and its plot (from [`certificate_plot_svg`]).
+///
+/// # Errors
+/// A template error.
+pub fn certificate_page_html(
+    nav: Nav,
+    csrf: String,
+    may_amend: bool,
+    c: &CertificateSnapshot,
+    sha256: String,
+    replaced: bool,
+    plot_svg: &str,
+) -> Result<String, AppError> {
+    let page = CertificatePage {
+        nav,
+        csrf,
+        may_amend,
+        c,
+        sha256,
+        replaced,
+        plot_svg,
+    };
+    Ok(page.render()?)
+}
+
+/// `?revision=N` of the certificate pages (latest when absent).
+fn revision_of(params: &HashMap<String, String>) -> Result<Option<i64>, AppError> {
+    match params.get("revision").map(|r| r.trim()) {
+        None | Some("") => Ok(None),
+        Some(r) => r
+            .parse::<i64>()
+            .ok()
+            .filter(|r| *r >= 0)
+            .map(Some)
+            .ok_or_else(|| {
+                AppError::invalid(
+                    "revision",
+                    format!("{r:?} is not a revision number (0, 1, 2, ...)"),
+                )
+            }),
+    }
+}
+
+/// `GET /certificates/{number}[?revision=N]`: a revision (the latest by
+/// default) as a page.
+pub async fn certificate(
+    State(state): State<AppState>,
+    user: PageUser,
+    Path(number): Path<String>,
+    axum::extract::Query(params): axum::extract::Query<HashMap<String, String>>,
+) -> Result<Html<String>, PageError> {
+    let revision = revision_of(&params)?;
+    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
+    let row = crate::store::lookups::by_number(&mut conn, &number, revision)
+        .await
+        .map_err(AppError::from)?
+        .ok_or_else(|| {
+            AppError::NotFound(match revision {
+                Some(r) => format!("there is no revision {r} of certificate {number:?}"),
+                None => format!("there is no certificate {number:?}"),
+            })
+        })?;
+    let c = cached_snapshot(&state, &mut conn, &row).await?;
+    drop(conn);
+    let plot = if let Some(svg) = state.artefacts.plot_svg.get(&row.sha256) {
+        svg
+    } else {
+        let svg: Arc<str> = certificate_plot_svg(&c).into();
+        state
+            .artefacts
+            .plot_svg
+            .insert(row.sha256.clone(), svg.clone(), svg.len());
+        svg
+    };
     let may_amend = row.replaced_by_id.is_none()
         && matches!(
             user.user.role,
             crate::store::accounts::Role::Reviewer | crate::store::accounts::Role::Administrator
         );
-    let page = CertificatePage {
-        csrf: user.csrf.clone(),
+    let html = certificate_page_html(
+        Nav::of(Some(&user)),
+        user.csrf.clone(),
         may_amend,
-        nav: Nav::of(Some(&user)),
-        plot_svg: crate::report::plot::render_svg(&plot),
-        c,
-        sha256: row.sha256,
-        replaced: row.replaced_by_id.is_some(),
-    };
-    Ok(Html(page.render().map_err(AppError::from)?))
+        &c,
+        row.sha256,
+        row.replaced_by_id.is_some(),
+        &plot,
+    )?;
+    Ok(Html(html))
 }
 
 /// `GET /certificates/{number}/pdf`.
@@ -281,7 +325,7 @@ pub async fn certificate_pdf(
 ) -> Result<Response, PageError> {
     let revision = revision_of(&params)?;
     let mut conn = state.db.acquire().await.map_err(AppError::from)?;
-    let row = certificates::by_number(&mut conn, &number, revision)
+    let row = crate::store::lookups::by_number(&mut conn, &number, revision)
         .await
         .map_err(AppError::from)?
         .ok_or_else(|| {
@@ -290,8 +334,7 @@ pub async fn certificate_pdf(
                 None => format!("there is no certificate {number:?}"),
             })
         })?;
-    drop(conn);
-    let pdf = pdf_of(&row.snapshot).await?;
+    let pdf = cached_pdf(&state, &mut conn, &row).await?;
     Ok(([(header::CONTENT_TYPE, "application/pdf")], pdf).into_response())
 }
 
@@ -392,10 +435,10 @@ mod tests {
             nav: Nav::default(),
             csrf: "csrf-token".to_owned(),
             may_amend: false,
-            c,
+            c: &c,
             sha256: "ab".repeat(32),
             replaced: false,
-            plot_svg: String::new(),
+            plot_svg: "",
         }
         .render()
         .unwrap()
