@@ -149,24 +149,34 @@ impl FromRequestParts<AppState> for Caller {
                     "the Authorization header must read `Bearer <token>`".to_owned(),
                 )
             })?;
+        let hash = token_hash(secret);
+        // Known tokens are kept until the next database change (a revoked
+        // token or deactivated user is a change); unknown ones are always
+        // asked for.
+        let changes = state.changes.changes();
+        if let Some(caller) = state.lookups.tokens.get(&hash, changes) {
+            return Ok(caller);
+        }
         let mut conn = state
             .db
             .acquire()
             .await
             .map_err(|e| AuthError::Store(e.into()))?;
-        let (user, scope) = accounts::token_owner(&mut conn, &token_hash(secret))
+        let (user, scope) = accounts::token_owner(&mut conn, &hash)
             .await
             .map_err(|e| AuthError::Store(e.into()))?
             .ok_or_else(|| {
                 AuthError::Unauthenticated("the token is unknown or has been revoked".to_owned())
             })?;
-        Ok(Caller {
+        let caller = Caller {
             user_id: user.id,
             username: user.username,
             display_name: user.display_name,
             role: user.role,
             scope,
-        })
+        };
+        state.lookups.tokens.insert(hash, caller.clone(), changes);
+        Ok(caller)
     }
 }
 

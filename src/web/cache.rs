@@ -121,9 +121,136 @@ impl Default for Artefacts {
     }
 }
 
+/// Answers of the database kept in memory while nothing has been written
+/// since: each answer is filed under [`crate::store::ChangeWatch::changes`] as read
+/// *before* the query, and the whole map is dropped as soon as a newer
+/// count is seen. An answer read before a commit can therefore never be
+/// served after that commit has advanced the count (own writes advance it
+/// on commit, other processes' writes when the next request looks).
+/// When the map reaches its entry limit it is emptied and refilled.
+#[derive(Debug)]
+pub struct Fresh<K, V> {
+    inner: Mutex<FreshInner<K, V>>,
+    max_entries: usize,
+}
+
+#[derive(Debug)]
+struct FreshInner<K, V> {
+    changes: u64,
+    map: HashMap<K, V>,
+}
+
+impl<K: Eq + Hash, V: Clone> Fresh<K, V> {
+    /// An empty cache of at most `max_entries` answers.
+    #[must_use]
+    pub fn new(max_entries: usize) -> Self {
+        Self {
+            inner: Mutex::new(FreshInner {
+                changes: 0,
+                map: HashMap::new(),
+            }),
+            max_entries,
+        }
+    }
+
+    /// The answer under `key` if it was read at change count `changes`.
+    pub fn get<Q>(&self, key: &Q, changes: u64) -> Option<V>
+    where
+        K: std::borrow::Borrow<Q>,
+        Q: Eq + Hash + ?Sized,
+    {
+        let mut inner = self.inner.lock().unwrap_or_else(PoisonError::into_inner);
+        if inner.changes != changes {
+            if changes > inner.changes {
+                inner.map.clear();
+                inner.changes = changes;
+            }
+            return None;
+        }
+        inner.map.get(key).cloned()
+    }
+
+    /// Files `value`, read from the database after `changes` was taken.
+    /// An answer older than what the cache holds is not kept.
+    pub fn insert(&self, key: K, value: V, changes: u64) {
+        let mut inner = self.inner.lock().unwrap_or_else(PoisonError::into_inner);
+        if changes < inner.changes {
+            return;
+        }
+        if changes > inner.changes || inner.map.len() >= self.max_entries {
+            inner.map.clear();
+            inner.changes = changes;
+        }
+        inner.map.insert(key, value);
+    }
+
+    /// Number of answers held.
+    pub fn len(&self) -> usize {
+        let inner = self.inner.lock().unwrap_or_else(PoisonError::into_inner);
+        inner.map.len()
+    }
+
+    /// Whether no answer is held.
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+}
+
+/// API tokens' owners kept (entries).
+pub const TOKEN_ENTRIES: usize = 4_096;
+/// Current-certificate and certificate-number look-ups kept (entries).
+pub const HEADER_ENTRIES: usize = 50_000;
+
+/// Look-ups of the hot read paths, valid until the next database change.
+#[derive(Debug)]
+pub struct Lookups {
+    /// Token hash -> its owner and scope (known, unrevoked tokens only).
+    pub tokens: Fresh<String, crate::web::auth::Caller>,
+    /// Instrument serial -> its current certificate.
+    pub current: Fresh<String, crate::store::lookups::CertificateHeader>,
+    /// (certificate number, revision or -1 for the latest) -> certificate.
+    pub by_number: Fresh<(String, i64), crate::store::lookups::CertificateHeader>,
+}
+
+impl Default for Lookups {
+    fn default() -> Self {
+        Self {
+            tokens: Fresh::new(TOKEN_ENTRIES),
+            current: Fresh::new(HEADER_ENTRIES),
+            by_number: Fresh::new(HEADER_ENTRIES),
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn fresh_answers_never_outlive_a_change() {
+        let c: Fresh<&str, u32> = Fresh::new(3);
+        // Read at count 5, filed, served while the count stays 5.
+        c.insert("a", 1, 5);
+        assert_eq!(c.get("a", 5), Some(1));
+        // The count moved on: nothing from before is served, and an answer
+        // read before the change (filed late under 5) is not kept.
+        assert_eq!(c.get("a", 6), None);
+        c.insert("b", 2, 5);
+        assert_eq!(c.get("b", 6), None);
+        assert!(c.is_empty());
+        // A request that still holds the old count sees nothing either.
+        c.insert("a", 3, 6);
+        assert_eq!(c.get("a", 5), None);
+        assert_eq!(c.get("a", 6), Some(3));
+        // At the entry limit the map starts afresh.
+        c.insert("b", 4, 6);
+        c.insert("c", 5, 6);
+        assert_eq!(c.len(), 3);
+        c.insert("d", 6, 6);
+        assert_eq!(c.len(), 1);
+        assert_eq!(c.get("d", 6), Some(6));
+        assert_eq!(c.get("a", 6), None);
+    }
 
     #[test]
     fn the_oldest_entries_go_first_when_full() {

@@ -43,6 +43,11 @@ pub struct AppState {
     pub http: Arc<HttpConfig>,
     /// What is rendered from issued certificates, kept by fingerprint.
     pub artefacts: Arc<cache::Artefacts>,
+    /// Hot look-ups (token owners, current certificates) kept until the
+    /// next database change.
+    pub lookups: Arc<cache::Lookups>,
+    /// Notices commits, also by other processes, for those caches.
+    pub changes: Arc<crate::store::ChangeWatch>,
 }
 
 impl AppState {
@@ -50,10 +55,12 @@ impl AppState {
     #[must_use]
     pub fn new(db: SqlitePool, http: HttpConfig) -> Self {
         Self {
-            db,
             metrics: Arc::new(metrics::Metrics::default()),
             http: Arc::new(http),
             artefacts: Arc::new(cache::Artefacts::default()),
+            lookups: Arc::new(cache::Lookups::default()),
+            changes: Arc::new(crate::store::ChangeWatch::for_pool(&db)),
+            db,
         }
     }
 }
@@ -119,6 +126,10 @@ fn security_header(name: HeaderName, value: &'static str) -> SetResponseHeaderLa
 /// # Errors
 /// An I/O error from the listener.
 pub async fn serve(listener: TcpListener, state: AppState) -> std::io::Result<()> {
+    tokio::spawn(crate::store::watch_other_writers(
+        state.db.clone(),
+        state.changes.clone(),
+    ));
     let app = router(state.clone());
     axum::serve(listener, app)
         .with_graceful_shutdown(shutdown_signal())

@@ -445,6 +445,19 @@ async fn an_amendment_issues_a_new_revision_and_keeps_the_old_one(pool: SqlitePo
         StatusCode::CREATED,
     );
     let number = first["number"].as_str().expect("number").to_owned();
+    // Read the latest revision and the deviation function once before the
+    // amendment, so that the service holds them in its look-up caches: the
+    // answers after the amendment below must not come from there.
+    for path in [
+        format!("/api/v1/certificates/{number}"),
+        "/api/v1/instruments/PT-C5/deviation".to_owned(),
+    ] {
+        let before = ok(
+            &call(&lab.app, "GET", &path, Some(&lab.reader), None).await,
+            StatusCode::OK,
+        );
+        assert_eq!(before["revision"], 0, "{path}");
+    }
     let no_reason = call(
         &lab.app,
         "POST",

@@ -286,12 +286,8 @@ pub async fn certificate_json(
     Path(number): Path<String>,
     ApiQuery(q): ApiQuery<RevisionQuery>,
 ) -> ApiResult<Response> {
-    let mut conn = state.db.acquire().await?;
-    let c = lookups::by_number(&mut conn, &number, q.revision)
-        .await?
-        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
-    let body = cached_snapshot_json(&state, &mut conn, &c).await?;
-    drop(conn);
+    let c = header_by_number(&state, &number, q.revision).await?;
+    let body = cached_snapshot_json(&state, &c).await?;
     let mut response = ([(header::CONTENT_TYPE, "application/json")], body).into_response();
     let h = response.headers_mut();
     if let Ok(v) = HeaderValue::from_str(&c.sha256) {
@@ -333,14 +329,23 @@ async fn current_with_instrument(
 
 /// The current certificate of the instrument `serial`, without reading its
 /// snapshot; when there is none, the full look-up names what is missing.
-async fn current_header(
-    conn: &mut sqlx::SqliteConnection,
-    serial: &str,
-) -> Result<CertificateHeader, AppError> {
-    if let Some(h) = lookups::current_by_serial(conn, serial).await? {
+///
+/// Kept in memory until the next database change (`cache::Fresh`), so a
+/// repeated request needs no connection.
+async fn current_header(state: &AppState, serial: &str) -> Result<CertificateHeader, AppError> {
+    let changes = state.changes.changes();
+    if let Some(h) = state.lookups.current.get(serial, changes) {
         return Ok(h);
     }
-    let (c, _, instrument) = current_with_instrument(conn, serial).await?;
+    let mut conn = state.db.acquire().await?;
+    if let Some(h) = lookups::current_by_serial(&mut conn, serial).await? {
+        state
+            .lookups
+            .current
+            .insert(serial.to_owned(), h.clone(), changes);
+        return Ok(h);
+    }
+    let (c, _, instrument) = current_with_instrument(&mut conn, serial).await?;
     Ok(CertificateHeader {
         id: c.id,
         number: c.number,
@@ -352,9 +357,38 @@ async fn current_header(
     })
 }
 
+/// Certificate `number` at `revision` (the latest when `None`), without
+/// its snapshot; kept in memory until the next database change.
+///
+/// # Errors
+/// 404 when there is no such certificate; a database error.
+pub async fn header_by_number(
+    state: &AppState,
+    number: &str,
+    revision: Option<i64>,
+) -> Result<CertificateHeader, AppError> {
+    let changes = state.changes.changes();
+    let key = (number.to_owned(), revision.unwrap_or(-1));
+    if let Some(h) = state.lookups.by_number.get(&key, changes) {
+        return Ok(h);
+    }
+    let mut conn = state.db.acquire().await?;
+    let h = lookups::by_number(&mut conn, number, revision)
+        .await?
+        .ok_or_else(|| {
+            AppError::NotFound(match revision {
+                Some(r) => format!("there is no revision {r} of certificate {number:?}"),
+                None => format!("there is no certificate {number:?}"),
+            })
+        })?;
+    state.lookups.by_number.insert(key, h.clone(), changes);
+    Ok(h)
+}
+
 /// The snapshot JSON of certificate row `id`.
-async fn snapshot_json(conn: &mut sqlx::SqliteConnection, id: i64) -> Result<String, AppError> {
-    lookups::snapshot(conn, id)
+async fn snapshot_json(state: &AppState, id: i64) -> Result<String, AppError> {
+    let mut conn = state.db.acquire().await?;
+    lookups::snapshot(&mut conn, id)
         .await?
         .ok_or_else(|| AppError::NotFound(format!("certificate row {id} is gone")))
 }
@@ -366,13 +400,12 @@ async fn snapshot_json(conn: &mut sqlx::SqliteConnection, id: i64) -> Result<Str
 /// A database error.
 pub async fn cached_snapshot_json(
     state: &AppState,
-    conn: &mut sqlx::SqliteConnection,
     h: &CertificateHeader,
 ) -> Result<Bytes, AppError> {
     if let Some(json) = state.artefacts.snapshot_json.get(&h.sha256) {
         return Ok(json);
     }
-    let json = Bytes::from(snapshot_json(conn, h.id).await?);
+    let json = Bytes::from(snapshot_json(state, h.id).await?);
     state
         .artefacts
         .snapshot_json
@@ -386,13 +419,12 @@ pub async fn cached_snapshot_json(
 /// A database error or an unreadable stored snapshot.
 pub async fn cached_snapshot(
     state: &AppState,
-    conn: &mut sqlx::SqliteConnection,
     h: &CertificateHeader,
 ) -> Result<Arc<CertificateSnapshot>, AppError> {
     if let Some(s) = state.artefacts.snapshot.get(&h.sha256) {
         return Ok(s);
     }
-    let json = cached_snapshot_json(state, conn, h).await?;
+    let json = cached_snapshot_json(state, h).await?;
     let snapshot: CertificateSnapshot = serde_json::from_slice(&json)
         .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
     let snapshot = Arc::new(snapshot);
@@ -407,13 +439,12 @@ pub async fn cached_snapshot(
 /// parsed once per snapshot and then kept in memory.
 async fn function_of(
     state: &AppState,
-    conn: &mut sqlx::SqliteConnection,
     h: &CertificateHeader,
 ) -> Result<Option<Arc<FunctionBlock>>, AppError> {
     if let Some(f) = state.artefacts.function.get(&h.sha256) {
         return Ok(f);
     }
-    let json = snapshot_json(conn, h.id).await?;
+    let json = snapshot_json(state, h.id).await?;
     let snapshot: CertificateSnapshot = serde_json::from_str(&json)
         .map_err(|e| AppError::Internal(format!("stored snapshot unreadable: {e}")))?;
     let f = snapshot.deviation_function.map(Arc::new);
@@ -471,8 +502,7 @@ pub async fn deviation(
     headers: HeaderMap,
     Path(serial): Path<String>,
 ) -> ApiResult<Response> {
-    let mut conn = state.db.acquire().await?;
-    let h = current_header(&mut conn, &serial).await?;
+    let h = current_header(&state, &serial).await?;
     let tag = etag(&h.sha256);
     let cache = [
         (header::ETAG, tag.clone()),
@@ -484,7 +514,7 @@ pub async fn deviation(
     let body = if let Some(body) = state.artefacts.deviation_json.get(&h.sha256) {
         body
     } else {
-        let f = function_of(&state, &mut conn, &h).await?.ok_or_else(|| {
+        let f = function_of(&state, &h).await?.ok_or_else(|| {
             AppError::NotFound(format!(
                 "certificate {} has no deviation function",
                 h.number
@@ -579,15 +609,13 @@ pub async fn evaluate(
     Path(serial): Path<String>,
     ApiQuery(q): ApiQuery<EvaluateQuery>,
 ) -> ApiResult<Json<EvaluateOut>> {
-    let mut conn = state.db.acquire().await?;
-    let c = current_header(&mut conn, &serial).await?;
-    let f = function_of(&state, &mut conn, &c).await?.ok_or_else(|| {
+    let c = current_header(&state, &serial).await?;
+    let f = function_of(&state, &c).await?.ok_or_else(|| {
         AppError::NotFound(format!(
             "certificate {} has no deviation function",
             c.number
         ))
     })?;
-    drop(conn);
     let (t_c, emf) = match (q.t_c, q.emf_mv) {
         (Some(t), None) => {
             if !t.is_finite() {
@@ -664,11 +692,8 @@ pub async fn certificate_pdf(
     Path(number): Path<String>,
     ApiQuery(q): ApiQuery<RevisionQuery>,
 ) -> ApiResult<Response> {
-    let mut conn = state.db.acquire().await?;
-    let c = lookups::by_number(&mut conn, &number, q.revision)
-        .await?
-        .ok_or_else(|| AppError::NotFound(format!("there is no certificate {number:?}")))?;
-    let pdf = cached_pdf(&state, &mut conn, &c).await?;
+    let c = header_by_number(&state, &number, q.revision).await?;
+    let pdf = cached_pdf(&state, &c).await?;
     let disposition = format!(
         "inline; filename=\"{}-rev{}.pdf\"",
         c.number.replace(['"', '\\', '/'], "_"),
@@ -691,15 +716,11 @@ pub async fn certificate_pdf(
 ///
 /// # Errors
 /// As [`pdf_of`], or a database error.
-pub async fn cached_pdf(
-    state: &AppState,
-    conn: &mut sqlx::SqliteConnection,
-    h: &CertificateHeader,
-) -> Result<Bytes, AppError> {
+pub async fn cached_pdf(state: &AppState, h: &CertificateHeader) -> Result<Bytes, AppError> {
     if let Some(pdf) = state.artefacts.pdf.get(&h.sha256) {
         return Ok(pdf);
     }
-    let json = snapshot_json(conn, h.id).await?;
+    let json = snapshot_json(state, h.id).await?;
     let pdf = Bytes::from(pdf_of(&json).await?);
     state
         .artefacts

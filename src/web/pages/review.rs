@@ -15,7 +15,9 @@ use crate::report::pdf::{SwitchChangeText, SwitchRowText};
 use crate::report::snapshot::{CertificateSnapshot, SwitchBlock};
 use crate::store::{certificates, records, runs};
 use crate::web::api::records::ApiError;
-use crate::web::api::review::{approve_run, cached_pdf, cached_snapshot, return_run};
+use crate::web::api::review::{
+    approve_run, cached_pdf, cached_snapshot, header_by_number, return_run,
+};
 use crate::web::auth::AuthError;
 use crate::web::session::PageUser;
 use crate::web::{AppError, AppState};
@@ -277,18 +279,8 @@ pub async fn certificate(
     axum::extract::Query(params): axum::extract::Query<HashMap<String, String>>,
 ) -> Result<Html<String>, PageError> {
     let revision = revision_of(&params)?;
-    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
-    let row = crate::store::lookups::by_number(&mut conn, &number, revision)
-        .await
-        .map_err(AppError::from)?
-        .ok_or_else(|| {
-            AppError::NotFound(match revision {
-                Some(r) => format!("there is no revision {r} of certificate {number:?}"),
-                None => format!("there is no certificate {number:?}"),
-            })
-        })?;
-    let c = cached_snapshot(&state, &mut conn, &row).await?;
-    drop(conn);
+    let row = header_by_number(&state, &number, revision).await?;
+    let c = cached_snapshot(&state, &row).await?;
     let plot = if let Some(svg) = state.artefacts.plot_svg.get(&row.sha256) {
         svg
     } else {
@@ -324,17 +316,8 @@ pub async fn certificate_pdf(
     axum::extract::Query(params): axum::extract::Query<HashMap<String, String>>,
 ) -> Result<Response, PageError> {
     let revision = revision_of(&params)?;
-    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
-    let row = crate::store::lookups::by_number(&mut conn, &number, revision)
-        .await
-        .map_err(AppError::from)?
-        .ok_or_else(|| {
-            AppError::NotFound(match revision {
-                Some(r) => format!("there is no revision {r} of certificate {number:?}"),
-                None => format!("there is no certificate {number:?}"),
-            })
-        })?;
-    let pdf = cached_pdf(&state, &mut conn, &row).await?;
+    let row = header_by_number(&state, &number, revision).await?;
+    let pdf = cached_pdf(&state, &row).await?;
     Ok(([(header::CONTENT_TYPE, "application/pdf")], pdf).into_response())
 }
 
