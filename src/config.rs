@@ -30,6 +30,9 @@ pub struct HttpConfig {
     /// Largest accepted request body, in bytes (readings files are the
     /// largest bodies the service takes).
     pub body_limit_bytes: usize,
+    /// Largest logger file accepted by the streaming upload
+    /// (`.../readings/file`), in bytes.
+    pub upload_limit_bytes: u64,
 }
 
 impl Default for HttpConfig {
@@ -37,6 +40,7 @@ impl Default for HttpConfig {
         Self {
             request_timeout: Duration::from_secs(30),
             body_limit_bytes: 8 * 1024 * 1024,
+            upload_limit_bytes: 256 * 1024 * 1024,
         }
     }
 }

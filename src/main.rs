@@ -50,6 +50,9 @@ enum Command {
         /// Largest accepted request body, in bytes.
         #[arg(long, default_value_t = 8 * 1024 * 1024)]
         body_limit_bytes: usize,
+        /// Largest logger file accepted by the streaming upload, in bytes.
+        #[arg(long, default_value_t = 256 * 1024 * 1024)]
+        upload_limit_bytes: u64,
     },
     /// Load the invented demonstration laboratory into an empty database.
     Demo {
@@ -192,6 +195,7 @@ async fn run(cli: Cli) -> Result<(), String> {
             demo,
             request_timeout_s,
             body_limit_bytes,
+            upload_limit_bytes,
         } => {
             let config = ServeConfig {
                 database: db.database,
@@ -199,6 +203,7 @@ async fn run(cli: Cli) -> Result<(), String> {
                 http: HttpConfig {
                     request_timeout: std::time::Duration::from_secs(request_timeout_s),
                     body_limit_bytes,
+                    upload_limit_bytes,
                 },
             };
             serve(config, demo).await

@@ -31,78 +31,116 @@ fn error(line: usize, column: usize, message: impl Into<String>) -> ImportError 
 /// Most readings accepted in one block.
 pub const MAX_READINGS: usize = 100_000;
 
-/// Parses a block of readings.
-///
-/// # Errors
-/// The first problem found, with its line and column.
-pub fn parse(text: &str) -> Result<Vec<Reading>, ImportError> {
-    let mut lines = text
-        .lines()
-        .enumerate()
-        .map(|(i, l)| (i + 1, l.trim_end_matches('\r')))
-        .filter(|(_, l)| !l.trim().is_empty());
-    let (header_line, header) = lines.next().ok_or_else(|| {
-        error(
-            1,
-            0,
-            "the text is empty; expected a header row such as `time<TAB>reference<TAB>uut`",
-        )
-    })?;
-    let separator = if header.contains('\t') {
-        '\t'
-    } else if header.contains(';') {
-        ';'
-    } else {
-        ','
-    };
-    let names: Vec<String> = header
-        .split(separator)
-        .map(|h| h.trim().trim_matches('"').to_ascii_lowercase())
-        .collect();
-    let find = |wanted: &[&str]| names.iter().position(|n| wanted.contains(&n.as_str()));
-    let reference = find(&["reference", "reference_signal", "ref"]).ok_or_else(|| {
-        error(
-            header_line,
-            0,
-            format!("the header row has no `reference` column; it reads {header:?}"),
-        )
-    })?;
-    let uut = find(&["uut", "uut_signal", "unit_under_test"]).ok_or_else(|| {
-        error(
-            header_line,
-            0,
-            format!("the header row has no `uut` column; it reads {header:?}"),
-        )
-    })?;
-    let rj = find(&["rj_t_c", "rj", "reference_junction_t_c"]);
-    let time = find(&["time", "timestamp", "taken_at"]);
-    let decimal_comma = separator != ',';
+/// One reading as parsed from a line, borrowing its time stamp from it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Row<'a> {
+    /// Time stamp as written (`None` when the column is absent or empty).
+    pub taken_at: Option<&'a str>,
+    /// Reference signal.
+    pub reference_signal: f64,
+    /// Unit-under-test signal.
+    pub uut_signal: f64,
+    /// Reference-junction temperature, °C.
+    pub rj_t_c: Option<f64>,
+}
 
-    let mut out = Vec::new();
-    for (line, text) in lines {
-        let cells: Vec<&str> = text
+/// The layout read from a header row: separator, decimal sign and where
+/// each recognised column is. Reads the lines after the header one at a
+/// time, so a file can be parsed as it arrives.
+#[derive(Debug, Clone)]
+pub struct Layout {
+    separator: char,
+    decimal_comma: bool,
+    names: Vec<String>,
+    reference: usize,
+    uut: usize,
+    rj: Option<usize>,
+    time: Option<usize>,
+}
+
+impl Layout {
+    /// Reads the header row `header` (line `line`).
+    ///
+    /// # Errors
+    /// A header without a `reference` or `uut` column.
+    pub fn from_header(line: usize, header: &str) -> Result<Self, ImportError> {
+        let header = header.trim_end_matches('\r');
+        let separator = if header.contains('\t') {
+            '\t'
+        } else if header.contains(';') {
+            ';'
+        } else {
+            ','
+        };
+        let names: Vec<String> = header
             .split(separator)
-            .map(|c| c.trim().trim_matches('"'))
+            .map(|h| h.trim().trim_matches('"').to_ascii_lowercase())
             .collect();
-        if cells.len() != names.len() {
+        let find = |wanted: &[&str]| names.iter().position(|n| wanted.contains(&n.as_str()));
+        let reference = find(&["reference", "reference_signal", "ref"]).ok_or_else(|| {
+            error(
+                line,
+                0,
+                format!("the header row has no `reference` column; it reads {header:?}"),
+            )
+        })?;
+        let uut = find(&["uut", "uut_signal", "unit_under_test"]).ok_or_else(|| {
+            error(
+                line,
+                0,
+                format!("the header row has no `uut` column; it reads {header:?}"),
+            )
+        })?;
+        let rj = find(&["rj_t_c", "rj", "reference_junction_t_c"]);
+        let time = find(&["time", "timestamp", "taken_at"]);
+        Ok(Self {
+            separator,
+            decimal_comma: separator != ',',
+            names,
+            reference,
+            uut,
+            rj,
+            time,
+        })
+    }
+
+    /// Reads one line after the header; `None` for a blank line.
+    ///
+    /// # Errors
+    /// A wrong number of cells or a cell that is not a finite number, with
+    /// its line and column.
+    pub fn row<'a>(&self, line: usize, text: &'a str) -> Result<Option<Row<'a>>, ImportError> {
+        let text = text.trim_end_matches('\r');
+        if text.trim().is_empty() {
+            return Ok(None);
+        }
+        let mut cells = [""; MAX_COLUMNS];
+        let mut count = 0;
+        for cell in text.split(self.separator) {
+            if count < MAX_COLUMNS {
+                cells[count] = cell.trim().trim_matches('"');
+            }
+            count += 1;
+        }
+        if count != self.names.len() || count > MAX_COLUMNS {
             return Err(error(
                 line,
                 0,
-                format!("{} columns; the header has {}", cells.len(), names.len()),
+                format!("{count} columns; the header has {}", self.names.len()),
             ));
         }
         let number = |index: usize| -> Result<f64, ImportError> {
             let raw = cells[index];
-            let normal = if decimal_comma {
-                raw.replace(',', ".")
+            let value: Result<f64, _> = if self.decimal_comma && raw.contains(',') {
+                raw.replace(',', ".").parse()
             } else {
-                raw.to_owned()
+                raw.parse()
             };
-            let value: f64 = normal.parse().map_err(|_| {
+            let value = value.map_err(|_| {
                 error(
                     line,
                     index + 1,
-                    format!("{raw:?} in column `{}` is not a number", names[index]),
+                    format!("{raw:?} in column `{}` is not a number", self.names[index]),
                 )
             })?;
             if !value.is_finite() {
@@ -111,22 +149,57 @@ pub fn parse(text: &str) -> Result<Vec<Reading>, ImportError> {
                     index + 1,
                     format!(
                         "{raw:?} in column `{}` is not a finite number",
-                        names[index]
+                        self.names[index]
                     ),
                 ));
             }
             Ok(value)
         };
-        let rj_t_c = match rj {
+        let rj_t_c = match self.rj {
             Some(i) if !cells[i].is_empty() => Some(number(i)?),
             _ => None,
         };
+        Ok(Some(Row {
+            taken_at: self.time.map(|i| cells[i]).filter(|t| !t.is_empty()),
+            reference_signal: number(self.reference)?,
+            uut_signal: number(self.uut)?,
+            rj_t_c,
+        }))
+    }
+}
+
+/// Most columns a line may have.
+pub const MAX_COLUMNS: usize = 64;
+
+/// Parses a block of readings.
+///
+/// # Errors
+/// The first problem found, with its line and column.
+pub fn parse(text: &str) -> Result<Vec<Reading>, ImportError> {
+    let mut lines = text
+        .lines()
+        .enumerate()
+        .map(|(i, l)| (i + 1, l))
+        .filter(|(_, l)| !l.trim().is_empty());
+    let (header_line, header) = lines.next().ok_or_else(|| {
+        error(
+            1,
+            0,
+            "the text is empty; expected a header row such as `time<TAB>reference<TAB>uut`",
+        )
+    })?;
+    let layout = Layout::from_header(header_line, header)?;
+    let mut out = Vec::new();
+    for (line, text) in lines {
+        let Some(row) = layout.row(line, text)? else {
+            continue;
+        };
         out.push(Reading {
             position: 0,
-            taken_at: time.map(|i| cells[i].to_owned()).filter(|t| !t.is_empty()),
-            reference_signal: number(reference)?,
-            uut_signal: number(uut)?,
-            rj_t_c,
+            taken_at: row.taken_at.map(str::to_owned),
+            reference_signal: row.reference_signal,
+            uut_signal: row.uut_signal,
+            rj_t_c: row.rj_t_c,
         });
         if out.len() > MAX_READINGS {
             return Err(error(

@@ -81,6 +81,11 @@ pub fn router(state: AppState) -> Router {
         .route("/healthz", get(api::health::healthz))
         .route("/metrics", get(metrics::exposition))
         .route("/static/{file}", get(assets::serve))
+        // A hard cap for bodies read without an extractor, slightly above
+        // the extractor limit so that extractors produce the clearer error.
+        .route_layer(RequestBodyLimitLayer::new(http.body_limit_bytes + 1024))
+        // Logger files stream past that cap with their own limit.
+        .merge(api::upload_routes())
         // Count and time every matched route. A route layer sees the
         // matched path template (e.g. `/api/v1/instruments/{serial}`), which
         // keeps the label set small.
@@ -97,9 +102,6 @@ pub fn router(state: AppState) -> Router {
         // limit of the router that answered (several routers may live in
         // one process, e.g. in tests).
         .layer(axum::Extension(extract::BodyLimit(http.body_limit_bytes)))
-        // A hard cap for bodies read without an extractor, slightly above
-        // the extractor limit so that extractors produce the clearer error.
-        .layer(RequestBodyLimitLayer::new(http.body_limit_bytes + 1024))
         .layer(TimeoutLayer::with_status_code(
             StatusCode::REQUEST_TIMEOUT,
             http.request_timeout,

@@ -221,6 +221,14 @@ async fn every_api_route_answers_each_kind_of_caller_as_its_role_allows(pool: Sq
             TECH,
         ),
         (
+            // A JSON body: the allowed roles get 415 (a logger file is
+            // text), after the role check.
+            "POST",
+            format!("/api/v1/runs/2/set-points/{set_point}/readings/file?version=1"),
+            Some(json!({"version": 1})),
+            TECH,
+        ),
+        (
             "DELETE",
             format!("/api/v1/runs/2/set-points/{set_point}?version=1"),
             None,

@@ -12,6 +12,7 @@ mod fuzz_regressions;
 mod generate;
 mod helpers;
 mod hostile;
+mod ingest;
 mod media;
 mod pages;
 mod process;

@@ -72,7 +72,7 @@ async fn text(app: &Router, uri: &str, token: &str, content_type: &str, body: &s
     .await
 }
 
-fn ok(answer: &Answer, status: StatusCode) -> Value {
+pub fn ok(answer: &Answer, status: StatusCode) -> Value {
     assert_eq!(answer.status, status, "{}", answer.text());
     answer.json()
 }
@@ -153,7 +153,7 @@ pub async fn lab(pool: SqlitePool) -> Lab {
     }
 }
 
-fn run_body(date: &str) -> Value {
+pub fn run_body(date: &str) -> Value {
     json!({"instrument_serial": "PT-2291", "reference": "REF-PRT-01", "reference_readout": "DMM-01",
            "uut_readout": "DMM-01", "medium": "BATH-01", "performed_on": date,
            "procedure_ref": "TP-04 rev 3", "ambient_t_c": 21.5, "tolerance_class": "A",

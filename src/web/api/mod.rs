@@ -18,6 +18,15 @@ use axum::routing::{get, post, put};
 
 use super::AppState;
 
+/// Routes that stream large bodies: kept apart so that the service's
+/// general body limit does not apply to them (they enforce their own).
+pub fn upload_routes() -> Router<AppState> {
+    Router::new().route(
+        "/api/v1/runs/{id}/set-points/{set_point_id}/readings/file",
+        post(runs::add_readings_file),
+    )
+}
+
 /// Routes of the JSON API.
 pub fn routes() -> Router<AppState> {
     Router::new()

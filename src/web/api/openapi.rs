@@ -405,6 +405,13 @@ const RECORD_ROUTES: &[(&str, &str, &str, bool, &str)] = &[
         "201",
     ),
     (
+        "/api/v1/runs/{id}/set-points/{set_point_id}/readings/file",
+        "post",
+        "Stream a data logger's file (text/csv, text/tab-separated-values or text/plain with a header row, as for pasted readings) with ?version=N: parsed and checked as it arrives, up to the upload limit (256 MiB by default, --upload-limit-bytes) and 2 000 000 readings, stored all or none; answers {added, total, version, bytes, sha256} and records the file's SHA-256 in the audit trail",
+        true,
+        "201",
+    ),
+    (
         "/api/v1/runs/{id}/submit",
         "post",
         "Submit the run for review: {version}; it becomes read-only for its technician",

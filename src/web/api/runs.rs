@@ -676,44 +676,68 @@ fn check_readings(
 ) -> Result<(), AppError> {
     let mut p = Problems::default();
     for (i, r) in readings.iter().enumerate() {
-        let at = format!("readings[{i}]");
-        match instrument.kind.as_str() {
-            "thermocouple" => {
-                if rj_method != "compensated"
-                    && let Some(t) = instrument
-                        .tc_type
-                        .as_deref()
-                        .and_then(|t| t.parse::<ThermocoupleType>().ok())
-                {
-                    let (lo, hi) = t.emf_range();
-                    if !(lo..=hi).contains(&r.uut_signal) {
-                        p.add(&format!("{at}.uut_signal"), format!("{} mV is outside the emf range of type {t}, {lo:.3} mV to {hi:.3} mV", r.uut_signal));
-                    }
-                }
-                if rj_method == "measured" && r.rj_t_c.is_none() {
-                    p.add(&format!("{at}.rj_t_c"), "the reference junction is measured: give its temperature in °C with every reading");
-                }
-            }
-            "prt" | "sprt" if r.uut_signal <= 0.0 => {
-                p.add(
-                    &format!("{at}.uut_signal"),
-                    format!("{} Ω: a resistance must be positive", r.uut_signal),
-                );
-            }
-            _ => {}
-        }
-        if let Some(t) = r.rj_t_c
-            && !(-50.0..=100.0).contains(&t)
-        {
-            p.add(
-                &format!("{at}.rj_t_c"),
-                format!(
-                    "{t} °C is not a plausible reference-junction temperature (-50 °C to 100 °C)"
-                ),
-            );
-        }
+        check_reading(
+            &mut p,
+            &format!("readings[{i}]"),
+            r.uut_signal,
+            r.rj_t_c,
+            instrument,
+            rj_method,
+        );
     }
     p.finish()
+}
+
+/// Checks one reading (named `at`) against the sensors' ranges.
+fn check_reading(
+    p: &mut Problems,
+    at: &str,
+    uut_signal: f64,
+    rj_t_c: Option<f64>,
+    instrument: &Instrument,
+    rj_method: &str,
+) {
+    match instrument.kind.as_str() {
+        "thermocouple" => {
+            if rj_method != "compensated"
+                && let Some(t) = instrument
+                    .tc_type
+                    .as_deref()
+                    .and_then(|t| t.parse::<ThermocoupleType>().ok())
+            {
+                let (lo, hi) = t.emf_range();
+                if !(lo..=hi).contains(&uut_signal) {
+                    p.add(
+                        &format!("{at}.uut_signal"),
+                        format!(
+                            "{uut_signal} mV is outside the emf range of type {t}, {lo:.3} mV to {hi:.3} mV"
+                        ),
+                    );
+                }
+            }
+            if rj_method == "measured" && rj_t_c.is_none() {
+                p.add(
+                    &format!("{at}.rj_t_c"),
+                    "the reference junction is measured: give its temperature in °C with every reading",
+                );
+            }
+        }
+        "prt" | "sprt" if uut_signal <= 0.0 => {
+            p.add(
+                &format!("{at}.uut_signal"),
+                format!("{uut_signal} Ω: a resistance must be positive"),
+            );
+        }
+        _ => {}
+    }
+    if let Some(t) = rj_t_c
+        && !(-50.0..=100.0).contains(&t)
+    {
+        p.add(
+            &format!("{at}.rj_t_c"),
+            format!("{t} °C is not a plausible reference-junction temperature (-50 °C to 100 °C)"),
+        );
+    }
 }
 
 /// `POST /api/v1/runs/{id}/set-points/{set_point_id}/readings`: JSON
@@ -765,6 +789,304 @@ pub async fn add_readings(
     };
     let added = add_readings_to(&state.db, &caller, id, set_point_id, version, readings).await?;
     Ok((StatusCode::CREATED, Json(added)))
+}
+
+/// Most readings accepted from one logger file.
+pub const MAX_FILE_READINGS: usize = 2_000_000;
+
+/// Longest time stamp accepted in a logger file, in characters.
+const MAX_TIME_STAMP_CHARS: usize = 64;
+
+/// The outcome of a logger file upload.
+#[derive(Debug, Serialize)]
+pub struct FileAdded {
+    /// How many readings were added.
+    pub added: usize,
+    /// How many the set point now holds.
+    pub total: i64,
+    /// The run's new version.
+    pub version: i64,
+    /// Size of the file as received, bytes.
+    pub bytes: u64,
+    /// SHA-256 of the file as received (also in the audit trail).
+    pub sha256: String,
+}
+
+/// Reads a logger file from a request body as it arrives: splits it into
+/// lines across chunks, parses each line with the header's layout, checks
+/// it and keeps it as columns. The body itself is never held whole.
+struct FileReader<'a> {
+    instrument: &'a Instrument,
+    rj_method: &'a str,
+    layout: Option<readings::Layout>,
+    /// Bytes of an unfinished line carried into the next chunk.
+    pending: Vec<u8>,
+    line: usize,
+    columns: runs::ReadingColumns,
+    problems: Problems,
+    hasher: sha2::Sha256,
+    bytes: u64,
+}
+
+/// Field errors collected from a file before giving up.
+const MAX_FILE_PROBLEMS: usize = 20;
+
+impl<'a> FileReader<'a> {
+    fn new(instrument: &'a Instrument, rj_method: &'a str) -> Self {
+        Self {
+            instrument,
+            rj_method,
+            layout: None,
+            pending: Vec::new(),
+            line: 0,
+            columns: runs::ReadingColumns::default(),
+            problems: Problems::default(),
+            hasher: sha2::Digest::new(),
+            bytes: 0,
+        }
+    }
+
+    /// Takes the next chunk of the body.
+    fn chunk(&mut self, chunk: &[u8]) -> Result<(), AppError> {
+        sha2::Digest::update(&mut self.hasher, chunk);
+        self.bytes += chunk.len() as u64;
+        let mut rest = chunk;
+        while let Some(end) = rest.iter().position(|&b| b == b'\n') {
+            if self.pending.is_empty() {
+                self.one_line(&rest[..end])?;
+            } else {
+                let mut whole = std::mem::take(&mut self.pending);
+                whole.extend_from_slice(&rest[..end]);
+                self.one_line(&whole)?;
+            }
+            rest = &rest[end + 1..];
+        }
+        self.pending.extend_from_slice(rest);
+        if self.pending.len() > 64 * 1024 {
+            return Err(AppError::invalid(
+                format!("line {}", self.line + 1),
+                "a line longer than 64 KiB; is this a readings file with one reading per line?",
+            ));
+        }
+        Ok(())
+    }
+
+    fn one_line(&mut self, raw: &[u8]) -> Result<(), AppError> {
+        self.line += 1;
+        let line = self.line;
+        let text = std::str::from_utf8(raw).map_err(|e| {
+            AppError::invalid(
+                format!("line {line}"),
+                format!(
+                    "line {line}: not UTF-8 text (byte {} of the line)",
+                    e.valid_up_to() + 1
+                ),
+            )
+        })?;
+        let Some(layout) = &self.layout else {
+            if !text.trim().is_empty() {
+                match readings::Layout::from_header(line, text) {
+                    Ok(layout) => self.layout = Some(layout),
+                    Err(e) => return Err(self.stop(&e)),
+                }
+            }
+            return Ok(());
+        };
+        let row = match layout.row(line, text) {
+            Ok(Some(row)) => row,
+            Ok(None) => return Ok(()),
+            Err(e) => return Err(self.stop(&e)),
+        };
+        let at = format!("line {line}");
+        if let Some(t) = row.taken_at {
+            self.problems
+                .screen(&format!("{at}.time"), t, MAX_TIME_STAMP_CHARS, false);
+        }
+        check_reading(
+            &mut self.problems,
+            &at,
+            row.uut_signal,
+            row.rj_t_c,
+            self.instrument,
+            self.rj_method,
+        );
+        if self.problems.0.len() >= MAX_FILE_PROBLEMS {
+            return Err(self.all_problems());
+        }
+        if self.columns.len() >= MAX_FILE_READINGS {
+            return Err(AppError::invalid(
+                at,
+                format!("more than {MAX_FILE_READINGS} readings in one file; split it"),
+            ));
+        }
+        self.columns.push(
+            row.taken_at,
+            row.reference_signal,
+            row.uut_signal,
+            row.rj_t_c,
+        );
+        Ok(())
+    }
+
+    /// A line that cannot be read ends the upload: the problems found so
+    /// far, then this one.
+    fn stop(&mut self, e: &readings::ImportError) -> AppError {
+        self.problems
+            .add(&format!("line {}", e.line), e.to_string());
+        self.all_problems()
+    }
+
+    fn all_problems(&mut self) -> AppError {
+        std::mem::take(&mut self.problems)
+            .finish()
+            .err()
+            .unwrap_or_else(|| AppError::Internal("no problem recorded".to_owned()))
+    }
+
+    /// The readings and the file's size and SHA-256, once the body ended.
+    fn finish(mut self) -> Result<(runs::ReadingColumns, u64, String), AppError> {
+        if !self.pending.is_empty() {
+            let last = std::mem::take(&mut self.pending);
+            self.one_line(&last)?;
+        }
+        std::mem::take(&mut self.problems).finish()?;
+        if self.layout.is_none() {
+            return Err(AppError::invalid(
+                "line 1",
+                "the file is empty; expected a header row such as `time,reference,uut`",
+            ));
+        }
+        if self.columns.is_empty() {
+            return Err(AppError::invalid(
+                "readings",
+                "the header row is followed by no readings",
+            ));
+        }
+        let sha256 = hex::encode(sha2::Digest::finalize(self.hasher));
+        Ok((self.columns, self.bytes, sha256))
+    }
+}
+
+/// `POST /api/v1/runs/{id}/set-points/{set_point_id}/readings/file?version=N`:
+/// a data logger's file (`text/csv`, `text/tab-separated-values` or
+/// `text/plain` with a header row, as for pasted readings), up to the
+/// service's upload limit and [`MAX_FILE_READINGS`] readings. The body is
+/// parsed and checked as it arrives and kept as columns; the readings are
+/// then written in one transaction (all or none). The audit event records
+/// the count, positions and the file's SHA-256 instead of every value.
+pub async fn add_readings_file(
+    State(state): State<AppState>,
+    caller: Caller,
+    Path((id, set_point_id)): Path<(i64, i64)>,
+    Query(query): Query<VersionQuery>,
+    headers: HeaderMap,
+    body: axum::body::Body,
+) -> ApiResult<(StatusCode, Json<FileAdded>)> {
+    use axum::body::HttpBody;
+    caller.may_change(RUN_ROLES, "entering readings")?;
+    let content_type = headers
+        .get(header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .unwrap_or("")
+        .to_ascii_lowercase();
+    if !content_type.starts_with("text/") {
+        return Err(AppError::UnsupportedMediaType(
+            "send a logger file as text/csv, text/tab-separated-values or text/plain with a header row".to_owned(),
+        )
+        .into());
+    }
+    let version = query.version.ok_or_else(|| {
+        AppError::invalid("version", "give the run version you loaded as ?version=N")
+    })?;
+    let limit = state.http.upload_limit_bytes;
+    if headers
+        .get(header::CONTENT_LENGTH)
+        .and_then(|v| v.to_str().ok())
+        .and_then(|v| v.parse::<u64>().ok())
+        .is_some_and(|n| n > limit)
+    {
+        return Err(too_large(limit));
+    }
+    // Who may add what, checked before the body is read (and again in the
+    // write transaction below).
+    let (run, instrument) = {
+        let mut conn = state.db.acquire().await?;
+        let run = run_or_404(&mut conn, id).await?;
+        editable(&run, &caller, version)?;
+        if !runs::set_points(&mut conn, id)
+            .await?
+            .iter()
+            .any(|sp| sp.id == set_point_id)
+        {
+            return Err(
+                AppError::NotFound(format!("run {id} has no set point {set_point_id}")).into(),
+            );
+        }
+        let instrument = records::instrument_by_id(&mut conn, run.instrument_id)
+            .await?
+            .ok_or_else(|| AppError::Internal("instrument vanished".to_owned()))?;
+        (run, instrument)
+    };
+    let mut reader = FileReader::new(&instrument, &run.rj_method);
+    let mut body = std::pin::pin!(body);
+    while let Some(frame) = std::future::poll_fn(|cx| body.as_mut().poll_frame(cx)).await {
+        let frame = frame.map_err(|e| body_error(&e))?;
+        if let Ok(data) = frame.into_data() {
+            if reader.bytes + data.len() as u64 > limit {
+                return Err(too_large(limit));
+            }
+            reader.chunk(&data)?;
+        }
+    }
+    let (columns, bytes, sha256) = reader.finish()?;
+
+    let mut tx = store::begin_write(&state.db).await?;
+    let run = run_or_404(&mut tx, id).await?;
+    editable(&run, &caller, version)?;
+    let total = runs::append_reading_columns(&mut tx, set_point_id, &columns).await?;
+    runs::touch(&mut tx, id, run.version).await?;
+    let added = columns.len();
+    let after = serde_json::json!({
+        "set_point_id": set_point_id,
+        "file_sha256": sha256,
+        "file_bytes": bytes,
+        "readings": added,
+        "positions": [total - added as i64 + 1, total],
+    });
+    record(
+        &mut tx,
+        &caller,
+        "add_readings_file",
+        "run",
+        &id.to_string(),
+        None,
+        Some(&after),
+    )
+    .await?;
+    tx.commit().await?;
+    Ok((
+        StatusCode::CREATED,
+        Json(FileAdded {
+            added,
+            total,
+            version: run.version + 1,
+            bytes,
+            sha256,
+        }),
+    ))
+}
+
+/// 413 naming the upload limit.
+fn too_large(limit: u64) -> super::records::ApiError {
+    AppError::PayloadTooLarge {
+        limit_bytes: usize::try_from(limit).unwrap_or(usize::MAX),
+    }
+    .into()
+}
+
+/// A body that broke off (the client went away or sent a broken chunk).
+fn body_error(e: &axum::Error) -> AppError {
+    AppError::BadRequest(format!("the upload broke off: {e}"))
 }
 
 /// Appends readings to a set point of run `id`, all or none.
@@ -964,4 +1286,125 @@ pub async fn impact(
         to: q.to,
         runs,
     }))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn prt() -> Instrument {
+        Instrument {
+            id: 1,
+            serial: "PT-1".to_owned(),
+            kind: "prt".to_owned(),
+            tc_type: None,
+            r0_ohm: Some(100.0),
+            description: String::new(),
+            manufacturer: String::new(),
+            model: String::new(),
+            customer_id: 1,
+            created_at: String::new(),
+            updated_at: String::new(),
+        }
+    }
+
+    /// A logger file (tab separated, decimal comma, CRLF line ends, a blank
+    /// line, no line end after the last reading).
+    fn file() -> String {
+        let mut text = String::from("time\treference\tuut\r\n");
+        for i in 0..200 {
+            text += &format!(
+                "2026-11-20T10:{:02}:{:02}Z\t138,{:04}\t138,{:04}\r\n",
+                i / 60,
+                i % 60,
+                5000 + i,
+                5300 + 2 * i
+            );
+            if i == 100 {
+                text += "\r\n";
+            }
+        }
+        text.trim_end().to_owned()
+    }
+
+    fn read_in_chunks(text: &[u8], size: usize) -> (runs::ReadingColumns, u64, String) {
+        let instrument = prt();
+        let mut reader = FileReader::new(&instrument, "none");
+        for chunk in text.chunks(size) {
+            reader.chunk(chunk).expect("chunk");
+        }
+        reader.finish().expect("finish")
+    }
+
+    #[test]
+    fn a_file_reads_the_same_in_chunks_of_any_size_as_pasted_whole() {
+        let text = file();
+        // The pasted-text parser is the reference for what the file holds.
+        let whole = readings::parse(&text).expect("parses");
+        assert_eq!(whole.len(), 200);
+        for size in [1, 2, 3, 7, 64, 4096, text.len()] {
+            let (columns, bytes, sha) = read_in_chunks(text.as_bytes(), size);
+            assert_eq!(columns.len(), 200, "chunks of {size}");
+            assert_eq!(bytes, text.len() as u64);
+            // FIPS 180-4 SHA-256 of the bytes as sent (sha2 crate).
+            assert_eq!(
+                sha,
+                hex::encode(<sha2::Sha256 as sha2::Digest>::digest(text.as_bytes()))
+            );
+            for (i, r) in whole.iter().enumerate() {
+                assert_eq!(
+                    columns.get(i),
+                    (
+                        r.taken_at.as_deref(),
+                        r.reference_signal,
+                        r.uut_signal,
+                        r.rj_t_c
+                    ),
+                    "reading {i}, chunks of {size}"
+                );
+            }
+        }
+        assert_eq!(
+            read_in_chunks(text.as_bytes(), 5).0.get(7),
+            (Some("2026-11-20T10:00:07Z"), 138.5007, 138.5314, None)
+        );
+    }
+
+    #[test]
+    fn a_bad_line_is_named_whatever_the_chunk_boundaries() {
+        let text = "reference,uut\n138.5,138.6\n138.5,-1.0\n138.5,oops\n";
+        for size in [1, 4, 100] {
+            let instrument = prt();
+            let mut reader = FileReader::new(&instrument, "none");
+            let e = text
+                .as_bytes()
+                .chunks(size)
+                .try_for_each(|c| reader.chunk(c))
+                .expect_err("line 4 is not a number");
+            let AppError::Invalid { errors: fields, .. } = e else {
+                panic!("{e:?}")
+            };
+            // Both problems, in the order of the lines.
+            assert_eq!(fields.len(), 2, "{fields:?}");
+            assert_eq!(fields[0].field, "line 3.uut_signal");
+            assert_eq!(fields[1].field, "line 4");
+            assert!(
+                fields[1]
+                    .message
+                    .contains("\"oops\" in column `uut` is not a number")
+            );
+        }
+        // A negative resistance alone is reported when the body ends.
+        let instrument = prt();
+        let mut reader = FileReader::new(&instrument, "none");
+        reader
+            .chunk(b"reference,uut\n138.5,138.6\n138.5,-1.0\n")
+            .expect("parsed");
+        let e = reader.finish().expect_err("negative resistance");
+        let AppError::Invalid { errors: fields, .. } = e else {
+            panic!("{e:?}")
+        };
+        assert_eq!(fields[0].field, "line 3.uut_signal");
+        assert!(fields[0].message.contains("a resistance must be positive"));
+    }
 }
