@@ -395,16 +395,19 @@ pub async fn prepare(conn: &mut SqliteConnection, run: &Run) -> Result<Prepared,
 
     let mut set_points = Vec::new();
     for sp in runs::set_points(conn, run.id).await? {
-        let readings = runs::readings(conn, sp.id)
-            .await?
-            .into_iter()
-            .map(|r| calib::Reading {
-                timestamp: r.taken_at,
+        // Only the signals: time stamps play no part in the numbers, and a
+        // logger file may hold a million readings.
+        let capacity = usize::try_from(runs::reading_count(conn, sp.id).await?).unwrap_or(0);
+        let mut readings = Vec::with_capacity(capacity);
+        runs::for_each_signals(conn, sp.id, |r| {
+            readings.push(calib::Reading {
+                timestamp: None,
                 reference_signal: r.reference_signal,
                 uut_signal: r.uut_signal,
                 t_rj_c: r.rj_t_c,
-            })
-            .collect();
+            });
+        })
+        .await?;
         let t = sp.nominal_t_c;
         let mut items = Vec::new();
         let u = uncertainty_table
@@ -509,6 +512,8 @@ pub async fn prepare(conn: &mut SqliteConnection, run: &Run) -> Result<Prepared,
         .await?
         .map_or(P_K2, |l| l.coverage_probability);
     let mut model = calib::Run::new(probe, uut, set_points);
+    // The results carry the statistics; each reading stays in the records.
+    model.keep_reading_results = false;
     model.budget_template = template;
     model.coverage_probability = coverage_probability;
     model.cmc = cmc;

@@ -472,6 +472,75 @@ pub async fn append_reading_columns(
     Ok(start + n as i64)
 }
 
+/// The signals of one reading, for computation (no time stamp).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Signals {
+    /// Reference signal.
+    pub reference_signal: f64,
+    /// UUT signal.
+    pub uut_signal: f64,
+    /// Reference-junction temperature, °C.
+    pub rj_t_c: Option<f64>,
+}
+
+/// Rows read per query by [`for_each_signals`].
+pub const SIGNALS_PAGE_ROWS: i64 = 20_000;
+
+/// Calls `f` with the signals of every reading of a set point, in order,
+/// reading [`SIGNALS_PAGE_ROWS`] rows at a time so that memory does not
+/// grow with the set point. Returns the number of readings.
+///
+/// # Errors
+/// Any database error.
+pub async fn for_each_signals(
+    conn: &mut SqliteConnection,
+    set_point_id: i64,
+    mut f: impl FnMut(Signals),
+) -> sqlx::Result<usize> {
+    let mut after = 0_i64;
+    let mut count = 0;
+    loop {
+        let page = sqlx::query!(
+            r#"SELECT position AS "position!: i64", reference_signal AS "reference_signal!: f64",
+                      uut_signal AS "uut_signal!: f64", rj_t_c
+               FROM reading WHERE set_point_id = ? AND position > ? ORDER BY position LIMIT ?"#,
+            set_point_id,
+            after,
+            SIGNALS_PAGE_ROWS
+        )
+        .fetch_all(&mut *conn)
+        .await?;
+        let Some(last) = page.last() else { break };
+        after = last.position;
+        let full = page.len() as i64 == SIGNALS_PAGE_ROWS;
+        count += page.len();
+        for r in page {
+            f(Signals {
+                reference_signal: r.reference_signal,
+                uut_signal: r.uut_signal,
+                rj_t_c: r.rj_t_c,
+            });
+        }
+        if !full {
+            break;
+        }
+    }
+    Ok(count)
+}
+
+/// Number of readings of a set point.
+///
+/// # Errors
+/// Any database error.
+pub async fn reading_count(conn: &mut SqliteConnection, set_point_id: i64) -> sqlx::Result<i64> {
+    sqlx::query_scalar!(
+        r#"SELECT COUNT(*) AS "n!: i64" FROM reading WHERE set_point_id = ?"#,
+        set_point_id
+    )
+    .fetch_one(conn)
+    .await
+}
+
 /// A set point's readings in order.
 ///
 /// # Errors

@@ -254,6 +254,11 @@ pub struct Run {
     pub conformity: Option<ConformitySpec>,
     /// Degree of the deviation function.
     pub fit_degree: FitDegree,
+    /// Keep each reading's converted result in `SetPointResult::readings`
+    /// (the default). `false` leaves those lists empty so that memory stays
+    /// at the inputs (a logger file of a million readings); every statistic
+    /// is the same bit for bit either way.
+    pub keep_reading_results: bool,
 }
 
 impl Run {
@@ -269,6 +274,7 @@ impl Run {
             cmc: CmcTable::default(),
             conformity: None,
             fit_degree: FitDegree::Auto,
+            keep_reading_results: true,
         }
     }
 }

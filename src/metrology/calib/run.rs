@@ -10,7 +10,7 @@ use super::budget::{Sensitivities, components_for};
 use super::conformity::{self, Assessment, ConformityResult};
 use super::error::{CalibError, Location, finite};
 use super::fit::{DeviationFunction, FitQuantity, fit_deviation, resolve_degree};
-use super::model::{Run, SetPoint, UnitUnderTest};
+use super::model::{Reading, Run, SetPoint, UnitUnderTest};
 use super::reference::emf_and_slope;
 
 /// Fewest readings for which the Type A evaluation is considered reliable (common practice;
@@ -152,23 +152,52 @@ pub struct RunResult {
 }
 
 /// Sum with Neumaier compensation, so that the result hardly depends on the order of terms.
+#[cfg(test)]
 fn compensated_sum(values: impl Iterator<Item = f64>) -> f64 {
-    let mut sum = 0.0f64;
-    let mut c = 0.0f64;
-    for v in values {
-        let t = sum + v;
-        if sum.abs() >= v.abs() {
-            c += (sum - t) + v;
-        } else {
-            c += (v - t) + sum;
-        }
-        sum = t;
-    }
-    sum + c
+    let mut sum = CompensatedSum::default();
+    values.for_each(|v| sum.add(v));
+    sum.value()
 }
 
-/// Mean and experimental standard deviation (two-pass).
-fn mean_and_std_dev(values: &[f64]) -> (f64, f64) {
+/// Running sum with Neumaier compensation (see [`compensated_sum`]).
+#[derive(Debug, Clone, Copy, Default)]
+struct CompensatedSum {
+    sum: f64,
+    c: f64,
+}
+
+impl CompensatedSum {
+    fn add(&mut self, v: f64) {
+        let t = self.sum + v;
+        if self.sum.abs() >= v.abs() {
+            self.c += (self.sum - t) + v;
+        } else {
+            self.c += (v - t) + self.sum;
+        }
+        self.sum = t;
+    }
+
+    fn value(self) -> f64 {
+        self.sum + self.c
+    }
+}
+
+/// Adds `v` to a sum that exists only while every value so far was given.
+fn add_some(sum: &mut Option<CompensatedSum>, v: Option<f64>) {
+    match v {
+        Some(v) => {
+            if let Some(s) = sum {
+                s.add(v);
+            }
+        }
+        None => *sum = None,
+    }
+}
+
+/// Mean and experimental standard deviation (two-pass) of collected values: what
+/// `evaluate_set_point` computes while streaming; kept for the tests that compare the two.
+#[cfg(test)]
+pub(super) fn mean_and_std_dev(values: &[f64]) -> (f64, f64) {
     let n = values.len() as f64;
     let mean = compensated_sum(values.iter().copied()) / n;
     let ss = compensated_sum(values.iter().map(|v| (v - mean) * (v - mean)));
@@ -284,15 +313,11 @@ fn evaluate_set_point(
     }
     let measured_junction =
         run.reference.uses_measured_junction() || run.uut.uses_measured_junction();
-    let mut ignored_rj = 0usize;
-    let mut readings = Vec::with_capacity(n);
-    for (r, reading) in sp.readings.iter().enumerate() {
+    // One reading converted: t_ref and the UUT's deviation.
+    let convert = |r: usize, reading: &Reading| -> Result<ReadingResult, CalibError> {
         let rat = at.clone().reading(r);
         if let Some(v) = reading.t_rj_c {
             finite(&rat.clone().field("t_rj_c"), v)?;
-            if !measured_junction {
-                ignored_rj += 1;
-            }
         }
         let t_rj = if measured_junction {
             reading.t_rj_c
@@ -303,15 +328,46 @@ fn evaluate_set_point(
             .reference
             .temperature(reading.reference_signal, t_rj, &rat)?;
         let dev = run.uut.deviation(reading.uut_signal, t_ref, t_rj, &rat)?;
-        readings.push(ReadingResult {
-            timestamp: reading.timestamp.clone(),
+        Ok(ReadingResult {
+            timestamp: None,
             t_ref_c: t_ref,
             t_uut_c: dev.t_uut_c,
             deviation_c: dev.deviation_c,
             deviation_emf_mv: dev.deviation_emf_mv,
             deviation_ohm: dev.deviation_ohm,
             t_rj_c: t_rj,
-        });
+        })
+    };
+    // First pass: the sums of the means (the same compensated sums, in the
+    // same order, as over collected columns), and the readings' results
+    // when they are kept.
+    let mut ignored_rj = 0usize;
+    let mut readings = Vec::with_capacity(if run.keep_reading_results { n } else { 0 });
+    let mut sum_t_ref = CompensatedSum::default();
+    let mut sum_t_uut = CompensatedSum::default();
+    let mut sum_dev = CompensatedSum::default();
+    let mut sum_emf = Some(CompensatedSum::default());
+    let mut sum_ohm = Some(CompensatedSum::default());
+    let mut sum_rj = Some(CompensatedSum::default());
+    let mut sum_ref_signal = CompensatedSum::default();
+    let mut sum_uut_signal = CompensatedSum::default();
+    for (r, reading) in sp.readings.iter().enumerate() {
+        if reading.t_rj_c.is_some() && !measured_junction {
+            ignored_rj += 1;
+        }
+        let mut rr = convert(r, reading)?;
+        sum_t_ref.add(rr.t_ref_c);
+        sum_t_uut.add(rr.t_uut_c);
+        sum_dev.add(rr.deviation_c);
+        add_some(&mut sum_emf, rr.deviation_emf_mv);
+        add_some(&mut sum_ohm, rr.deviation_ohm);
+        add_some(&mut sum_rj, rr.t_rj_c);
+        sum_ref_signal.add(reading.reference_signal);
+        sum_uut_signal.add(reading.uut_signal);
+        if run.keep_reading_results {
+            rr.timestamp.clone_from(&reading.timestamp);
+            readings.push(rr);
+        }
     }
     if ignored_rj > 0 {
         warnings.push(Warning {
@@ -324,34 +380,43 @@ fn evaluate_set_point(
         });
     }
 
-    let column =
-        |f: &dyn Fn(&ReadingResult) -> f64| -> Vec<f64> { readings.iter().map(f).collect() };
-    let (mean_t_ref, _) = mean_and_std_dev(&column(&|r| r.t_ref_c));
-    let (mean_t_uut, _) = mean_and_std_dev(&column(&|r| r.t_uut_c));
-    let (mean_dev, s_dev) = mean_and_std_dev(&column(&|r| r.deviation_c));
-    let sqrt_n = (n as f64).sqrt();
-    let s_mean = s_dev / sqrt_n;
-    let emf: Option<Vec<f64>> = readings.iter().map(|r| r.deviation_emf_mv).collect();
-    let (mean_emf, s_mean_emf) = match &emf {
-        Some(v) => {
-            let (m, s) = mean_and_std_dev(v);
-            (Some(m), Some(s / sqrt_n))
+    let count = n as f64;
+    let mean_t_ref = sum_t_ref.value() / count;
+    let mean_t_uut = sum_t_uut.value() / count;
+    let mean_dev = sum_dev.value() / count;
+    let mean_emf = sum_emf.map(|s| s.value() / count);
+    let mean_ohm = sum_ohm.map(|s| s.value() / count);
+    let mean_t_rj = sum_rj.map(|s| s.value() / count);
+    let mean_ref_signal = sum_ref_signal.value() / count;
+    let mean_uut_signal = sum_uut_signal.value() / count;
+    // Second pass: the squared deviations from the means (two-pass
+    // standard deviations), from the kept results or converted again.
+    let mut ss_dev = CompensatedSum::default();
+    let mut ss_emf = CompensatedSum::default();
+    let mut second = |rr: &ReadingResult| {
+        ss_dev.add((rr.deviation_c - mean_dev) * (rr.deviation_c - mean_dev));
+        if let (Some(m), Some(e)) = (mean_emf, rr.deviation_emf_mv) {
+            ss_emf.add((e - m) * (e - m));
         }
-        None => (None, None),
     };
-    let ohm: Option<Vec<f64>> = readings.iter().map(|r| r.deviation_ohm).collect();
-    let mean_ohm = ohm.as_ref().map(|v| mean_and_std_dev(v).0);
-    let rj: Option<Vec<f64>> = readings.iter().map(|r| r.t_rj_c).collect();
-    let mean_t_rj = rj.as_ref().map(|v| mean_and_std_dev(v).0);
-    let mean_ref_signal = mean_and_std_dev(
-        &sp.readings
-            .iter()
-            .map(|r| r.reference_signal)
-            .collect::<Vec<_>>(),
-    )
-    .0;
-    let mean_uut_signal =
-        mean_and_std_dev(&sp.readings.iter().map(|r| r.uut_signal).collect::<Vec<_>>()).0;
+    if run.keep_reading_results {
+        readings.iter().for_each(&mut second);
+    } else {
+        for (r, reading) in sp.readings.iter().enumerate() {
+            second(&convert(r, reading)?);
+        }
+    }
+    let std_dev = |ss: CompensatedSum| {
+        if n > 1 {
+            (ss.value() / (count - 1.0)).sqrt()
+        } else {
+            0.0
+        }
+    };
+    let s_dev = std_dev(ss_dev);
+    let sqrt_n = count.sqrt();
+    let s_mean = s_dev / sqrt_n;
+    let s_mean_emf = mean_emf.map(|_| std_dev(ss_emf) / sqrt_n);
 
     let t_rj_for_sensitivity = mean_t_rj.unwrap_or(0.0);
     let sensitivities = Sensitivities {

@@ -1267,6 +1267,50 @@ fn same_input_gives_bit_identical_output() {
     }
 }
 
+#[test]
+fn results_without_the_readings_list_are_the_same_bit_for_bit() {
+    for run in [
+        scenario1(),
+        scenario2(),
+        scenario3(),
+        scenario4(JunctionMethod::Measured),
+    ] {
+        let mut kept = evaluate_run(&run).unwrap();
+        let mut lean_run = run.clone();
+        lean_run.keep_reading_results = false;
+        let lean = evaluate_run(&lean_run).unwrap();
+        for (k, l) in kept.set_points.iter().zip(&lean.set_points) {
+            assert!(l.readings.is_empty());
+            assert_eq!(k.readings.len(), k.n);
+            // The streamed sums are the two-pass mean and standard deviation of the
+            // collected columns, to the last bit.
+            let dev: Vec<f64> = k.readings.iter().map(|r| r.deviation_c).collect();
+            let t_ref: Vec<f64> = k.readings.iter().map(|r| r.t_ref_c).collect();
+            let (mean_dev, s_dev) = super::run::mean_and_std_dev(&dev);
+            assert_eq!(k.mean_deviation_c.to_bits(), mean_dev.to_bits());
+            assert_eq!(k.std_dev_c.to_bits(), s_dev.to_bits());
+            assert_eq!(
+                k.mean_t_ref_c.to_bits(),
+                super::run::mean_and_std_dev(&t_ref).0.to_bits()
+            );
+            if let Some(emf) = k.mean_deviation_emf_mv {
+                let e: Vec<f64> = k.readings.iter().map(|r| r.deviation_emf_mv.unwrap()).collect();
+                let (m, s) = super::run::mean_and_std_dev(&e);
+                assert_eq!(emf.to_bits(), m.to_bits());
+                let sqrt_n = (k.n as f64).sqrt();
+                assert_eq!(
+                    k.std_dev_of_mean_emf_mv.unwrap().to_bits(),
+                    (s / sqrt_n).to_bits()
+                );
+            }
+        }
+        for sp in &mut kept.set_points {
+            sp.readings.clear();
+        }
+        assert_eq!(kept, lean);
+    }
+}
+
 /// Relative tolerance of the permutation property (the brief's bound).
 const PERMUTATION_REL_TOL: f64 = 1e-12;
 
