@@ -34,6 +34,10 @@ pub static MIGRATOR: sqlx::migrate::Migrator = sqlx::migrate!();
 /// plus this timeout keep "database is locked" away from users.
 pub const BUSY_TIMEOUT: Duration = Duration::from_secs(10);
 
+/// Rows a connection's worker thread may read ahead of the task that takes
+/// them (sqlx's default is 50).
+pub const ROW_BUFFER: usize = 1024;
+
 /// Errors when opening or preparing the database.
 #[derive(Debug, thiserror::Error)]
 #[non_exhaustive]
@@ -104,7 +108,8 @@ pub async fn connect(path: &Path) -> Result<SqlitePool, StoreError> {
         .journal_mode(SqliteJournalMode::Wal)
         .synchronous(SqliteSynchronous::Normal)
         .foreign_keys(true)
-        .busy_timeout(BUSY_TIMEOUT);
+        .busy_timeout(BUSY_TIMEOUT)
+        .row_buffer_size(ROW_BUFFER);
     let pool = SqlitePoolOptions::new()
         .max_connections(8)
         .min_connections(1)

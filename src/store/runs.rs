@@ -326,6 +326,23 @@ pub struct Reading {
     pub rj_t_c: Option<f64>,
 }
 
+/// The last position a set point's readings take (0 when it has none), over
+/// rows and blocks.
+///
+/// # Errors
+/// Any database error.
+pub async fn last_position(conn: &mut SqliteConnection, set_point_id: i64) -> sqlx::Result<i64> {
+    sqlx::query_scalar!(
+        r#"SELECT MAX(
+               COALESCE((SELECT MAX(position) FROM reading WHERE set_point_id = ?1), 0),
+               COALESCE((SELECT MAX(first_position + count - 1) FROM reading_block
+                         WHERE set_point_id = ?1), 0)) AS "n!: i64""#,
+        set_point_id
+    )
+    .fetch_one(conn)
+    .await
+}
+
 /// Appends readings to a set point after the ones it has; returns how many
 /// it now holds.
 ///
@@ -336,12 +353,7 @@ pub async fn append_readings(
     set_point_id: i64,
     readings: &[Reading],
 ) -> sqlx::Result<i64> {
-    let start: i64 = sqlx::query_scalar!(
-        r#"SELECT COALESCE(MAX(position), 0) AS "n!: i64" FROM reading WHERE set_point_id = ?"#,
-        set_point_id
-    )
-    .fetch_one(&mut *conn)
-    .await?;
+    let start = last_position(conn, set_point_id).await?;
     for (i, r) in readings.iter().enumerate() {
         let position = start + 1 + i as i64;
         sqlx::query!(
@@ -360,25 +372,29 @@ pub async fn append_readings(
     Ok(start + readings.len() as i64)
 }
 
-/// Readings held as columns: a logger file of a million readings parsed
-/// as it arrives, in about 28 bytes per reading plus its time stamp's text
-/// (one `String` for all time stamps).
+/// Readings packed as they will be stored (blocks of [`BLOCK_READINGS`],
+/// migration 0011): a logger file of a million readings parsed as it
+/// arrives takes 24 bytes per reading plus its time stamp's text, and no
+/// buffer ever grows past one block.
 #[derive(Debug, Default, Clone, PartialEq)]
 pub struct ReadingColumns {
-    reference_signal: Vec<f64>,
-    uut_signal: Vec<f64>,
-    /// NaN when not given (given values are finite).
-    rj_t_c: Vec<f64>,
-    taken_at: String,
-    /// End of each reading's time stamp in `taken_at` (empty: none).
-    taken_at_end: Vec<u32>,
+    blocks: Vec<PackedBlock>,
+    len: usize,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+struct PackedBlock {
+    count: usize,
+    /// Three little-endian doubles per reading; NaN for no junction value.
+    signals: Vec<u8>,
+    /// Time stamps joined by line feeds (an empty line: none).
+    stamps: String,
+    any_stamp: bool,
 }
 
 impl ReadingColumns {
-    /// Appends a reading. Signals must be finite (the parser checks).
-    ///
-    /// # Panics
-    /// When the time stamps together exceed 4 GiB of text.
+    /// Appends a reading. Signals must be finite (the parser checks) and a
+    /// time stamp must not hold a line feed (it comes from one line).
     pub fn push(
         &mut self,
         taken_at: Option<&str>,
@@ -386,56 +402,82 @@ impl ReadingColumns {
         uut_signal: f64,
         rj_t_c: Option<f64>,
     ) {
-        self.reference_signal.push(reference_signal);
-        self.uut_signal.push(uut_signal);
-        self.rj_t_c.push(rj_t_c.unwrap_or(f64::NAN));
-        if let Some(t) = taken_at {
-            self.taken_at.push_str(t);
+        if self.blocks.last().is_none_or(|b| b.count == BLOCK_READINGS) {
+            self.blocks.push(PackedBlock {
+                count: 0,
+                signals: Vec::with_capacity(BLOCK_READINGS * BLOCK_STRIDE),
+                stamps: String::new(),
+                any_stamp: false,
+            });
         }
-        let end = u32::try_from(self.taken_at.len()).expect("time stamps under 4 GiB");
-        self.taken_at_end.push(end);
+        let Some(block) = self.blocks.last_mut() else {
+            return;
+        };
+        block
+            .signals
+            .extend_from_slice(&reference_signal.to_le_bytes());
+        block.signals.extend_from_slice(&uut_signal.to_le_bytes());
+        block
+            .signals
+            .extend_from_slice(&rj_t_c.unwrap_or(f64::NAN).to_le_bytes());
+        if block.count > 0 {
+            block.stamps.push('\n');
+        }
+        if let Some(t) = taken_at {
+            block.any_stamp = true;
+            block.stamps.push_str(t);
+        }
+        block.count += 1;
+        self.len += 1;
     }
 
     /// Number of readings.
     #[must_use]
     pub fn len(&self) -> usize {
-        self.reference_signal.len()
+        self.len
     }
 
     /// Whether there are none.
     #[must_use]
     pub fn is_empty(&self) -> bool {
-        self.reference_signal.is_empty()
+        self.len == 0
     }
 
     /// Reading `i`: (time stamp, reference signal, UUT signal, reference
-    /// junction °C).
+    /// junction °C). Reads its block's time stamps up to it: for checks,
+    /// not for loops over every reading.
+    ///
+    /// # Panics
+    /// When `i` is not below [`ReadingColumns::len`].
     #[must_use]
     pub fn get(&self, i: usize) -> (Option<&str>, f64, f64, Option<f64>) {
-        let start = if i == 0 {
-            0
-        } else {
-            self.taken_at_end[i - 1] as usize
+        let block = &self.blocks[i / BLOCK_READINGS];
+        let k = i % BLOCK_READINGS;
+        let value = |j: usize| {
+            let at = k * BLOCK_STRIDE + 8 * j;
+            let mut bytes = [0_u8; 8];
+            bytes.copy_from_slice(&block.signals[at..at + 8]);
+            f64::from_le_bytes(bytes)
         };
-        let end = self.taken_at_end[i] as usize;
-        let t = (end > start).then(|| &self.taken_at[start..end]);
-        let rj = self.rj_t_c[i];
-        (
-            t,
-            self.reference_signal[i],
-            self.uut_signal[i],
-            (!rj.is_nan()).then_some(rj),
-        )
+        let stamp = block
+            .stamps
+            .split('\n')
+            .nth(k)
+            .filter(|t| block.any_stamp && !t.is_empty());
+        let rj = value(2);
+        (stamp, value(0), value(1), (!rj.is_nan()).then_some(rj))
     }
 }
 
-/// Rows per INSERT statement when appending [`ReadingColumns`] (6 values
-/// each, well under SQLite's limit of 32 766 bound values).
-pub const APPEND_BATCH_ROWS: usize = 500;
+/// Most readings in one stored block (see migration 0011).
+pub const BLOCK_READINGS: usize = 65_536;
 
-/// Appends readings held as columns to a set point, [`APPEND_BATCH_ROWS`]
-/// per statement (values bound, never printed into the SQL). Returns how
-/// many the set point now holds.
+/// Bytes of one reading's signals in a block: three little-endian doubles.
+const BLOCK_STRIDE: usize = 24;
+
+/// Appends readings held as columns to a set point as blocks of at most
+/// [`BLOCK_READINGS`] (the same raw values, packed; migration 0011).
+/// Returns how many readings the set point now holds.
 ///
 /// # Errors
 /// Any database error.
@@ -444,32 +486,94 @@ pub async fn append_reading_columns(
     set_point_id: i64,
     readings: &ReadingColumns,
 ) -> sqlx::Result<i64> {
-    let start: i64 = sqlx::query_scalar!(
-        r#"SELECT COALESCE(MAX(position), 0) AS "n!: i64" FROM reading WHERE set_point_id = ?"#,
+    let start = last_position(conn, set_point_id).await?;
+    let mut first_position = start + 1;
+    for block in &readings.blocks {
+        let count = block.count as i64;
+        let stamps = block.any_stamp.then_some(block.stamps.as_str());
+        sqlx::query!(
+            "INSERT INTO reading_block (set_point_id, first_position, count, signals, taken_at)
+             VALUES (?, ?, ?, ?, ?)",
+            set_point_id,
+            first_position,
+            count,
+            block.signals,
+            stamps
+        )
+        .execute(&mut *conn)
+        .await?;
+        first_position += count;
+    }
+    let n = readings.len();
+    Ok(start + n as i64)
+}
+
+/// A stored block of readings (migration 0011).
+struct Block {
+    first_position: i64,
+    signals: Vec<u8>,
+    taken_at: Option<String>,
+}
+
+impl Block {
+    /// Calls `f` with each reading of the block: (position, time stamp,
+    /// signals).
+    fn each(&self, mut f: impl FnMut(i64, Option<&str>, Signals)) {
+        let mut stamps = self.taken_at.as_deref().map(|t| t.split('\n'));
+        for (i, chunk) in self.signals.chunks_exact(BLOCK_STRIDE).enumerate() {
+            let value = |k: usize| {
+                let mut bytes = [0_u8; 8];
+                bytes.copy_from_slice(&chunk[8 * k..8 * k + 8]);
+                f64::from_le_bytes(bytes)
+            };
+            let rj = value(2);
+            let stamp = stamps
+                .as_mut()
+                .and_then(Iterator::next)
+                .filter(|t| !t.is_empty());
+            f(
+                self.first_position + i as i64,
+                stamp,
+                Signals {
+                    reference_signal: value(0),
+                    uut_signal: value(1),
+                    rj_t_c: (!rj.is_nan()).then_some(rj),
+                },
+            );
+        }
+    }
+}
+
+/// The blocks of a set point as (id, first position, count), in order.
+async fn block_heads(
+    conn: &mut SqliteConnection,
+    set_point_id: i64,
+) -> sqlx::Result<Vec<(i64, i64, i64)>> {
+    let rows = sqlx::query!(
+        r#"SELECT id AS "id!: i64", first_position, count FROM reading_block
+           WHERE set_point_id = ? ORDER BY first_position"#,
         set_point_id
     )
-    .fetch_one(&mut *conn)
+    .fetch_all(conn)
     .await?;
-    let n = readings.len();
-    let mut first = 0;
-    while first < n {
-        let last = (first + APPEND_BATCH_ROWS).min(n);
-        let mut q = sqlx::QueryBuilder::<sqlx::Sqlite>::new(
-            "INSERT INTO reading (set_point_id, position, taken_at, reference_signal, uut_signal, rj_t_c) ",
-        );
-        q.push_values(first..last, |mut row, i| {
-            let (taken_at, reference, uut, rj) = readings.get(i);
-            row.push_bind(set_point_id)
-                .push_bind(start + 1 + i as i64)
-                .push_bind(taken_at)
-                .push_bind(reference)
-                .push_bind(uut)
-                .push_bind(rj);
-        });
-        q.build().execute(&mut *conn).await?;
-        first = last;
-    }
-    Ok(start + n as i64)
+    Ok(rows
+        .into_iter()
+        .map(|r| (r.id, r.first_position, r.count))
+        .collect())
+}
+
+async fn block(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Block> {
+    let r = sqlx::query!(
+        r#"SELECT first_position, signals, taken_at FROM reading_block WHERE id = ?"#,
+        id
+    )
+    .fetch_one(conn)
+    .await?;
+    Ok(Block {
+        first_position: r.first_position,
+        signals: r.signals,
+        taken_at: r.taken_at,
+    })
 }
 
 /// The signals of one reading, for computation (no time stamp).
@@ -486,9 +590,10 @@ pub struct Signals {
 /// Rows read per query by [`for_each_signals`].
 pub const SIGNALS_PAGE_ROWS: i64 = 20_000;
 
-/// Calls `f` with the signals of every reading of a set point, in order,
-/// reading [`SIGNALS_PAGE_ROWS`] rows at a time so that memory does not
-/// grow with the set point. Returns the number of readings.
+/// Calls `f` with the signals of every reading of a set point, in order
+/// of position, whether held as rows ([`SIGNALS_PAGE_ROWS`] at a time) or
+/// as blocks (one at a time), so that memory does not grow with the set
+/// point. Returns the number of readings.
 ///
 /// # Errors
 /// Any database error.
@@ -499,30 +604,42 @@ pub async fn for_each_signals(
 ) -> sqlx::Result<usize> {
     let mut after = 0_i64;
     let mut count = 0;
-    loop {
-        let page = sqlx::query!(
-            r#"SELECT position AS "position!: i64", reference_signal AS "reference_signal!: f64",
-                      uut_signal AS "uut_signal!: f64", rj_t_c
-               FROM reading WHERE set_point_id = ? AND position > ? ORDER BY position LIMIT ?"#,
-            set_point_id,
-            after,
-            SIGNALS_PAGE_ROWS
-        )
-        .fetch_all(&mut *conn)
-        .await?;
-        let Some(last) = page.last() else { break };
-        after = last.position;
-        let full = page.len() as i64 == SIGNALS_PAGE_ROWS;
-        count += page.len();
-        for r in page {
-            f(Signals {
-                reference_signal: r.reference_signal,
-                uut_signal: r.uut_signal,
-                rj_t_c: r.rj_t_c,
-            });
+    let heads = block_heads(conn, set_point_id).await?;
+    for next in heads.iter().map(Some).chain([None]) {
+        // Rows between the previous block and this one.
+        let before = next.map_or(i64::MAX, |&(_, first, _)| first);
+        loop {
+            let page = sqlx::query!(
+                r#"SELECT position AS "position!: i64", reference_signal AS "reference_signal!: f64",
+                          uut_signal AS "uut_signal!: f64", rj_t_c
+                   FROM reading WHERE set_point_id = ? AND position > ? AND position < ?
+                   ORDER BY position LIMIT ?"#,
+                set_point_id,
+                after,
+                before,
+                SIGNALS_PAGE_ROWS
+            )
+            .fetch_all(&mut *conn)
+            .await?;
+            let Some(last) = page.last() else { break };
+            after = last.position;
+            let full = page.len() as i64 == SIGNALS_PAGE_ROWS;
+            count += page.len();
+            for r in page {
+                f(Signals {
+                    reference_signal: r.reference_signal,
+                    uut_signal: r.uut_signal,
+                    rj_t_c: r.rj_t_c,
+                });
+            }
+            if !full {
+                break;
+            }
         }
-        if !full {
-            break;
+        if let Some(&(id, first, n)) = next {
+            block(conn, id).await?.each(|_, _, s| f(s));
+            count += usize::try_from(n).unwrap_or(0);
+            after = first + n - 1;
         }
     }
     Ok(count)
@@ -534,7 +651,9 @@ pub async fn for_each_signals(
 /// Any database error.
 pub async fn reading_count(conn: &mut SqliteConnection, set_point_id: i64) -> sqlx::Result<i64> {
     sqlx::query_scalar!(
-        r#"SELECT COUNT(*) AS "n!: i64" FROM reading WHERE set_point_id = ?"#,
+        r#"SELECT (SELECT COUNT(*) FROM reading WHERE set_point_id = ?1)
+                + COALESCE((SELECT SUM(count) FROM reading_block WHERE set_point_id = ?1), 0)
+                AS "n!: i64""#,
         set_point_id
     )
     .fetch_one(conn)
@@ -549,15 +668,32 @@ pub async fn readings(
     conn: &mut SqliteConnection,
     set_point_id: i64,
 ) -> sqlx::Result<Vec<Reading>> {
-    sqlx::query_as!(
+    let mut out = sqlx::query_as!(
         Reading,
         r#"SELECT position AS "position!: i64", taken_at, reference_signal AS "reference_signal!: f64",
                   uut_signal AS "uut_signal!: f64", rj_t_c
            FROM reading WHERE set_point_id = ? ORDER BY position"#,
         set_point_id
     )
-    .fetch_all(conn)
-    .await
+    .fetch_all(&mut *conn)
+    .await?;
+    let heads = block_heads(conn, set_point_id).await?;
+    if heads.is_empty() {
+        return Ok(out);
+    }
+    for (id, _, _) in heads {
+        block(conn, id).await?.each(|position, taken_at, s| {
+            out.push(Reading {
+                position,
+                taken_at: taken_at.map(str::to_owned),
+                reference_signal: s.reference_signal,
+                uut_signal: s.uut_signal,
+                rj_t_c: s.rj_t_c,
+            });
+        });
+    }
+    out.sort_by_key(|r| r.position);
+    Ok(out)
 }
 
 /// Removes a set point and its readings; returns whether it existed.
@@ -571,6 +707,13 @@ pub async fn delete_set_point(
 ) -> sqlx::Result<bool> {
     sqlx::query!(
         "DELETE FROM reading WHERE set_point_id = (SELECT id FROM set_point WHERE id = ? AND run_id = ?)",
+        set_point_id,
+        run_id
+    )
+    .execute(&mut *conn)
+    .await?;
+    sqlx::query!(
+        "DELETE FROM reading_block WHERE set_point_id = (SELECT id FROM set_point WHERE id = ? AND run_id = ?)",
         set_point_id,
         run_id
     )
@@ -607,4 +750,46 @@ pub async fn set_review_state(
     .execute(conn)
     .await?;
     Ok(())
+}
+
+#[cfg(test)]
+mod packing_tests {
+    use super::*;
+
+    #[test]
+    fn packed_readings_read_back_across_block_boundaries() {
+        let mut c = ReadingColumns::default();
+        let n = BLOCK_READINGS + 4_464;
+        for i in 0..n {
+            let stamp = format!("t{i}");
+            c.push(
+                (i % 3 != 0).then_some(stamp.as_str()),
+                100.0 + i as f64 / 8.0,
+                -(i as f64),
+                (i % 5 == 0).then_some(20.5),
+            );
+        }
+        assert_eq!(c.len(), n);
+        assert_eq!(c.blocks.len(), 2);
+        assert_eq!(c.blocks[0].count, BLOCK_READINGS);
+        for i in [0, 1, 2, 5, BLOCK_READINGS - 1, BLOCK_READINGS, n - 1] {
+            let stamp = format!("t{i}");
+            assert_eq!(
+                c.get(i),
+                (
+                    (i % 3 != 0).then_some(stamp.as_str()),
+                    100.0 + i as f64 / 8.0,
+                    -(i as f64),
+                    (i % 5 == 0).then_some(20.5)
+                ),
+                "reading {i}"
+            );
+        }
+        // A block without any time stamp stores none (NULL, not empty lines).
+        let mut bare = ReadingColumns::default();
+        bare.push(None, 1.0, 2.0, None);
+        bare.push(None, 3.0, 4.0, None);
+        assert!(!bare.blocks[0].any_stamp);
+        assert_eq!(bare.get(1), (None, 3.0, 4.0, None));
+    }
 }

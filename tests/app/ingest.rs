@@ -153,7 +153,47 @@ async fn a_logger_file_is_stored_whole_with_its_fingerprint(pool: SqlitePool) {
     assert_eq!(after["positions"], json!([1, 3000]));
     drop(conn);
 
-    // The results take all 3000 readings.
+    // Readings typed after the file continue the positions; a second file
+    // continues after them, and everything reads back in order.
+    ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/runs/{id}/set-points/{sp}/readings"),
+            Some(&lab.tech),
+            Some(json!({"version": 3, "readings": [
+                {"reference_signal": 138.5101, "uut_signal": 138.5302, "taken_at": "typed"},
+                {"reference_signal": 138.5102, "uut_signal": 138.5303}]})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let second = ok(
+        &upload(
+            &lab.app,
+            &format!("/api/v1/runs/{id}/set-points/{sp}/readings/file?version=4"),
+            &lab.tech,
+            "text/csv",
+            b"reference,uut\n138.5111,138.5311\n138.5112,138.5312\n".to_vec(),
+            true,
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    assert_eq!(second["total"], 3004);
+    let (_, readings) = readings_of(&lab, id).await;
+    let positions: Vec<i64> = readings
+        .iter()
+        .map(|r| r["position"].as_i64().expect("position"))
+        .collect();
+    assert_eq!(positions, (1..=3004).collect::<Vec<_>>());
+    assert_eq!(readings[3000]["taken_at"], "typed");
+    assert_eq!(readings[3001]["reference_signal"], 138.5102);
+    assert_eq!(readings[3001]["taken_at"], Value::Null);
+    assert_eq!(readings[3003]["uut_signal"], 138.5312);
+    assert_eq!(readings[3003]["taken_at"], Value::Null);
+
+    // The results take all 3004 readings.
     let results = ok(
         &call(
             &lab.app,
@@ -165,7 +205,23 @@ async fn a_logger_file_is_stored_whole_with_its_fingerprint(pool: SqlitePool) {
         .await,
         StatusCode::OK,
     );
-    assert_eq!(results["set_points"][0]["n"], 3000, "{results}");
+    assert_eq!(results["set_points"][0]["n"], 3004, "{results}");
+
+    // Removing the set point removes its stored blocks too.
+    let removed = call(
+        &lab.app,
+        "DELETE",
+        &format!("/api/v1/runs/{id}/set-points/{sp}?version=5"),
+        Some(&lab.tech),
+        None,
+    )
+    .await;
+    assert_eq!(removed.status, StatusCode::NO_CONTENT, "{}", removed.text());
+    let blocks: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM reading_block")
+        .fetch_one(&pool)
+        .await
+        .expect("count");
+    assert_eq!(blocks, 0);
 }
 
 #[sqlx::test]
@@ -322,4 +378,91 @@ async fn a_logger_file_over_the_upload_limit_gets_413_with_the_limit(pool: Sqlit
         StatusCode::CREATED,
     );
     assert_eq!(answer["added"], 260_000);
+}
+
+#[sqlx::test]
+async fn readings_from_a_file_give_the_same_results_as_typed_ones(pool: SqlitePool) {
+    let lab = lab(pool.clone()).await;
+    let (from_file, sp_file) = run_with_set_point(&lab).await;
+    let file = logger_file(40);
+    ok(
+        &upload(
+            &lab.app,
+            &format!("/api/v1/runs/{from_file}/set-points/{sp_file}/readings/file?version=2"),
+            &lab.tech,
+            "text/tab-separated-values",
+            file.clone().into_bytes(),
+            true,
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    // The same readings typed as JSON into a second run of the instrument.
+    let typed = ok(
+        &call(
+            &lab.app,
+            "POST",
+            "/api/v1/runs",
+            Some(&lab.tech),
+            Some(run_body("2026-11-20")),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let typed = typed["id"].as_i64().expect("id");
+    let sp_typed = ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/runs/{typed}/set-points"),
+            Some(&lab.tech),
+            Some(json!({"nominal_t_c": 100.0, "version": 1})),
+        )
+        .await,
+        StatusCode::CREATED,
+    )["id"]
+        .as_i64()
+        .expect("set point");
+    let readings: Vec<Value> = file
+        .lines()
+        .skip(1)
+        .map(|line| {
+            let cells: Vec<&str> = line.split('\t').collect();
+            let number = |c: &str| c.replace(',', ".").parse::<f64>().expect("number");
+            json!({"taken_at": cells[0], "reference_signal": number(cells[1]), "uut_signal": number(cells[2])})
+        })
+        .collect();
+    ok(
+        &call(
+            &lab.app,
+            "POST",
+            &format!("/api/v1/runs/{typed}/set-points/{sp_typed}/readings"),
+            Some(&lab.tech),
+            Some(json!({"version": 2, "readings": readings})),
+        )
+        .await,
+        StatusCode::CREATED,
+    );
+    let results = |id: i64| {
+        let app = lab.app.clone();
+        let reader = lab.reader.clone();
+        async move {
+            ok(
+                &call(
+                    &app,
+                    "GET",
+                    &format!("/api/v1/runs/{id}/results"),
+                    Some(&reader),
+                    None,
+                )
+                .await,
+                StatusCode::OK,
+            )
+        }
+    };
+    let (a, b) = (results(from_file).await, results(typed).await);
+    assert_eq!(a["set_points"][0]["n"], 40);
+    // Every number of the set point's result is the same to the last bit.
+    assert_eq!(a["set_points"], b["set_points"]);
+    assert_eq!(a["deviation_function"], b["deviation_function"]);
 }

@@ -1294,7 +1294,11 @@ fn results_without_the_readings_list_are_the_same_bit_for_bit() {
                 super::run::mean_and_std_dev(&t_ref).0.to_bits()
             );
             if let Some(emf) = k.mean_deviation_emf_mv {
-                let e: Vec<f64> = k.readings.iter().map(|r| r.deviation_emf_mv.unwrap()).collect();
+                let e: Vec<f64> = k
+                    .readings
+                    .iter()
+                    .map(|r| r.deviation_emf_mv.unwrap())
+                    .collect();
                 let (m, s) = super::run::mean_and_std_dev(&e);
                 assert_eq!(emf.to_bits(), m.to_bits());
                 let sqrt_n = (k.n as f64).sqrt();

@@ -678,7 +678,7 @@ fn check_readings(
     for (i, r) in readings.iter().enumerate() {
         check_reading(
             &mut p,
-            &format!("readings[{i}]"),
+            &|| format!("readings[{i}]"),
             r.uut_signal,
             r.rj_t_c,
             instrument,
@@ -688,10 +688,11 @@ fn check_readings(
     p.finish()
 }
 
-/// Checks one reading (named `at`) against the sensors' ranges.
+/// Checks one reading (named by `at`, called only for a problem) against
+/// the sensors' ranges.
 fn check_reading(
     p: &mut Problems,
-    at: &str,
+    at: &dyn Fn() -> String,
     uut_signal: f64,
     rj_t_c: Option<f64>,
     instrument: &Instrument,
@@ -708,7 +709,7 @@ fn check_reading(
                 let (lo, hi) = t.emf_range();
                 if !(lo..=hi).contains(&uut_signal) {
                     p.add(
-                        &format!("{at}.uut_signal"),
+                        &format!("{}.uut_signal", at()),
                         format!(
                             "{uut_signal} mV is outside the emf range of type {t}, {lo:.3} mV to {hi:.3} mV"
                         ),
@@ -717,14 +718,14 @@ fn check_reading(
             }
             if rj_method == "measured" && rj_t_c.is_none() {
                 p.add(
-                    &format!("{at}.rj_t_c"),
+                    &format!("{}.rj_t_c", at()),
                     "the reference junction is measured: give its temperature in °C with every reading",
                 );
             }
         }
         "prt" | "sprt" if uut_signal <= 0.0 => {
             p.add(
-                &format!("{at}.uut_signal"),
+                &format!("{}.uut_signal", at()),
                 format!("{uut_signal} Ω: a resistance must be positive"),
             );
         }
@@ -734,7 +735,7 @@ fn check_reading(
         && !(-50.0..=100.0).contains(&t)
     {
         p.add(
-            &format!("{at}.rj_t_c"),
+            &format!("{}.rj_t_c", at()),
             format!("{t} °C is not a plausible reference-junction temperature (-50 °C to 100 °C)"),
         );
     }
@@ -897,10 +898,13 @@ impl<'a> FileReader<'a> {
             Ok(None) => return Ok(()),
             Err(e) => return Err(self.stop(&e)),
         };
-        let at = format!("line {line}");
+        let at = || format!("line {line}");
         if let Some(t) = row.taken_at {
-            self.problems
-                .screen(&format!("{at}.time"), t, MAX_TIME_STAMP_CHARS, false);
+            // Printable ASCII within the limit needs no closer look.
+            if t.len() > MAX_TIME_STAMP_CHARS || !t.bytes().all(|b| (0x20..0x7f).contains(&b)) {
+                self.problems
+                    .screen(&format!("{}.time", at()), t, MAX_TIME_STAMP_CHARS, false);
+            }
         }
         check_reading(
             &mut self.problems,
@@ -915,7 +919,7 @@ impl<'a> FileReader<'a> {
         }
         if self.columns.len() >= MAX_FILE_READINGS {
             return Err(AppError::invalid(
-                at,
+                at(),
                 format!("more than {MAX_FILE_READINGS} readings in one file; split it"),
             ));
         }
