@@ -668,31 +668,52 @@ pub async fn readings(
     conn: &mut SqliteConnection,
     set_point_id: i64,
 ) -> sqlx::Result<Vec<Reading>> {
+    readings_in(conn, set_point_id, 1, i64::MAX).await
+}
+
+/// A set point's readings at positions `first ..= last`, in order.
+///
+/// # Errors
+/// Any database error.
+pub async fn readings_in(
+    conn: &mut SqliteConnection,
+    set_point_id: i64,
+    first: i64,
+    last: i64,
+) -> sqlx::Result<Vec<Reading>> {
     let mut out = sqlx::query_as!(
         Reading,
         r#"SELECT position AS "position!: i64", taken_at, reference_signal AS "reference_signal!: f64",
                   uut_signal AS "uut_signal!: f64", rj_t_c
-           FROM reading WHERE set_point_id = ? ORDER BY position"#,
-        set_point_id
+           FROM reading WHERE set_point_id = ? AND position BETWEEN ? AND ? ORDER BY position"#,
+        set_point_id,
+        first,
+        last
     )
     .fetch_all(&mut *conn)
     .await?;
     let heads = block_heads(conn, set_point_id).await?;
-    if heads.is_empty() {
-        return Ok(out);
-    }
-    for (id, _, _) in heads {
+    let mut from_blocks = false;
+    for (id, start, count) in heads {
+        if start > last || start + count - 1 < first {
+            continue;
+        }
+        from_blocks = true;
         block(conn, id).await?.each(|position, taken_at, s| {
-            out.push(Reading {
-                position,
-                taken_at: taken_at.map(str::to_owned),
-                reference_signal: s.reference_signal,
-                uut_signal: s.uut_signal,
-                rj_t_c: s.rj_t_c,
-            });
+            if (first..=last).contains(&position) {
+                out.push(Reading {
+                    position,
+                    taken_at: taken_at.map(str::to_owned),
+                    reference_signal: s.reference_signal,
+                    uut_signal: s.uut_signal,
+                    rj_t_c: s.rj_t_c,
+                });
+            }
         });
     }
-    out.sort_by_key(|r| r.position);
+    if from_blocks {
+        out.sort_by_key(|r| r.position);
+    }
     Ok(out)
 }
 

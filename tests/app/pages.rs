@@ -477,6 +477,55 @@ async fn a_logger_file_can_be_uploaded_to_a_set_point(pool: SqlitePool) {
 }
 
 #[sqlx::test]
+async fn a_set_point_with_many_readings_lists_both_ends_and_counts_the_rest(pool: SqlitePool) {
+    let mut browser = signed_in(pool.clone(), "demo-tech").await;
+    let token = crate::records::token_for(
+        &pool,
+        "demo-tech",
+        juncture::store::accounts::Role::Technician,
+        juncture::store::accounts::Scope::Write,
+    )
+    .await;
+    // Demo run 3, set point 10 (0 °C) holds 6 readings; a logger file adds
+    // 250 (positions 7 to 256).
+    let mut file = String::from("time,reference,uut\n");
+    for i in 0..250 {
+        file += &format!("L{i},-0.01{:02},-0.04{:02}\n", i % 100, (i * 7) % 100);
+    }
+    let added = send(
+        &browser.app,
+        Request::post("/api/v1/runs/3/set-points/10/readings/file?version=1")
+            .header("authorization", format!("Bearer {token}"))
+            .header("content-type", "text/csv")
+            .body(Body::from(file))
+            .expect("request"),
+    )
+    .await;
+    assert_eq!(added.status, StatusCode::CREATED, "{}", added.text());
+    let html = browser.get("/runs/3").await.text();
+    assert!(html.contains("Readings as taken (256)"), "{html}");
+    assert!(
+        html.contains(
+            "56 more readings, all kept in the records and used in the results, are not listed here"
+        ),
+        "{html}"
+    );
+    // Positions 1-100 and 157-256 are listed, 101-156 are not.
+    for (position, stamp) in [(100, "L93"), (157, "L150"), (256, "L249")] {
+        assert!(
+            html.contains(&format!("<tr><td>{position}</td><td>{stamp}</td>")),
+            "position {position}"
+        );
+    }
+    for position in [101, 156] {
+        assert!(
+            !html.contains(&format!("<tr><td>{position}</td>")),
+            "position {position} is not listed"
+        );
+    }
+}
+
+#[sqlx::test]
 async fn a_reviewer_approves_the_demo_run_and_reads_its_certificate(pool: SqlitePool) {
     let mut browser = signed_in(pool, "demo-reviewer").await;
     let queue = browser.get("/review").await.text();

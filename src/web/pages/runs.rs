@@ -518,12 +518,22 @@ pub struct SetPointView {
     warnings: Vec<String>,
 }
 
+/// Readings listed at each end of a set point on the run page; the ones
+/// between are counted, not listed.
+const PAGE_READINGS_EACH_END: i64 = 100;
+
 /// A set point with its readings, results and form state.
 #[derive(Debug)]
 pub struct SetPointBlock {
     id: i64,
     nominal: String,
     readings: Vec<ReadingLine>,
+    /// All readings of the set point.
+    count: i64,
+    /// Readings not listed on the page (between the first and the last).
+    hidden: i64,
+    /// Position after which the hidden ones start.
+    hidden_after: i64,
     results: Option<SetPointView>,
     /// Grid values on a failed save: (reference, uut, rj) per row.
     grid: Vec<(String, String, String)>,
@@ -967,9 +977,27 @@ async fn run_render(
     let mut set_points = Vec::new();
     let mut form = form;
     for (i, sp) in set_point_rows.iter().enumerate() {
-        let readings = runs::readings(&mut conn, sp.id)
+        // A logger file may bring a million readings: the page lists the
+        // first and the last ones and says how many it leaves out.
+        let count = runs::reading_count(&mut conn, sp.id)
             .await
-            .map_err(AppError::from)?
+            .map_err(AppError::from)?;
+        let mut shown = runs::readings_in(&mut conn, sp.id, 1, PAGE_READINGS_EACH_END)
+            .await
+            .map_err(AppError::from)?;
+        let last = runs::last_position(&mut conn, sp.id)
+            .await
+            .map_err(AppError::from)?;
+        let tail_from = (last - PAGE_READINGS_EACH_END + 1).max(PAGE_READINGS_EACH_END + 1);
+        if tail_from <= last {
+            shown.extend(
+                runs::readings_in(&mut conn, sp.id, tail_from, last)
+                    .await
+                    .map_err(AppError::from)?,
+            );
+        }
+        let hidden = count - shown.len() as i64;
+        let readings = shown
             .into_iter()
             .map(|r| ReadingLine {
                 position: r.position,
@@ -995,6 +1023,9 @@ async fn run_render(
             id: sp.id,
             nominal: fmt(sp.nominal_t_c, 2),
             readings,
+            count,
+            hidden,
+            hidden_after: PAGE_READINGS_EACH_END,
             results,
             grid,
             paste: state.paste,
