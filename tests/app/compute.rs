@@ -426,7 +426,7 @@ async fn bad_budgets_name_the_component_field(pool: SqlitePool) {
         (
             json!({"components": [{"name": "a", "distribution": "normal", "standard_uncertainty": 1.0}],
                 "decision": {"rule": "guarded", "lower": -1.0, "upper": 1.0, "guard_band_factor": 1e308}}),
-            "decision.r",
+            "decision.guard_band_factor",
             "overflow the floating-point range",
         ),
     ];

@@ -884,8 +884,14 @@ fn decision(d: &DecisionRequest, estimate: f64, expanded: f64) -> Result<Decisio
         }
     };
     let measured = d.measured.unwrap_or(estimate);
-    let decided = stats::decide(measured, expanded, &tolerance, rule)
-        .map_err(|e| stats_error(e, "decision"))?;
+    let decided = stats::decide(measured, expanded, &tolerance, rule).map_err(|e| match &e {
+        // The core calls the guard band factor r (ILAC-G8); the request
+        // field is `guard_band_factor`.
+        StatsError::InvalidInput { field, .. } if field == "r" => {
+            AppError::invalid("decision.guard_band_factor", e.to_string())
+        }
+        _ => stats_error(e, "decision"),
+    })?;
     Ok(DecisionAnswer {
         outcome: decided.outcome.label(),
         statement: decided.statement,
