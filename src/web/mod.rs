@@ -32,36 +32,49 @@ pub use error::{AppError, FieldError};
 
 use crate::config::HttpConfig;
 
-/// State shared by every handler. Cheap to clone.
+/// State shared by every handler: one reference-counted pointer, so that
+/// the clone each extractor makes costs one atomic increment (the fields
+/// are reached through `Deref`, e.g. `state.db`).
 #[derive(Debug, Clone)]
-pub struct AppState {
+pub struct AppState(Arc<Shared>);
+
+/// What [`AppState`] shares.
+#[derive(Debug)]
+pub struct Shared {
     /// The database pool.
     pub db: SqlitePool,
     /// Request counters and latency histograms for `/metrics`.
-    pub metrics: Arc<metrics::Metrics>,
+    pub metrics: metrics::Metrics,
     /// HTTP limits, shown in error messages (e.g. the body limit).
-    pub http: Arc<HttpConfig>,
+    pub http: HttpConfig,
     /// What is rendered from issued certificates, kept by fingerprint.
-    pub artefacts: Arc<cache::Artefacts>,
+    pub artefacts: cache::Artefacts,
     /// Hot look-ups (token owners, current certificates) kept until the
     /// next database change.
-    pub lookups: Arc<cache::Lookups>,
+    pub lookups: cache::Lookups,
     /// Notices commits, also by other processes, for those caches.
     pub changes: Arc<crate::store::ChangeWatch>,
+}
+
+impl std::ops::Deref for AppState {
+    type Target = Shared;
+    fn deref(&self) -> &Shared {
+        &self.0
+    }
 }
 
 impl AppState {
     /// State over an open, migrated pool with the given HTTP limits.
     #[must_use]
     pub fn new(db: SqlitePool, http: HttpConfig) -> Self {
-        Self {
-            metrics: Arc::new(metrics::Metrics::default()),
-            http: Arc::new(http),
-            artefacts: Arc::new(cache::Artefacts::default()),
-            lookups: Arc::new(cache::Lookups::default()),
+        Self(Arc::new(Shared {
+            metrics: metrics::Metrics::default(),
+            http,
+            artefacts: cache::Artefacts::default(),
+            lookups: cache::Lookups::default(),
             changes: Arc::new(crate::store::ChangeWatch::for_pool(&db)),
             db,
-        }
+        }))
     }
 }
 
