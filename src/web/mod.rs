@@ -98,7 +98,7 @@ pub fn router(state: AppState) -> Router {
         // the extractor limit so that extractors produce the clearer error.
         .route_layer(RequestBodyLimitLayer::new(http.body_limit_bytes + 1024))
         // Logger files stream past that cap with their own limit.
-        .merge(api::upload_routes())
+        .merge(api::upload_routes(http.upload_limit_bytes))
         // Count and time every matched route. A route layer sees the
         // matched path template (e.g. `/api/v1/instruments/{serial}`), which
         // keeps the label set small.

@@ -474,6 +474,53 @@ async fn a_logger_file_can_be_uploaded_to_a_set_point(pool: SqlitePool) {
         "the logger's time stamps are kept"
     );
     assert!(after.matches("<td class=\"num\">").count() > before);
+
+    // A file larger than the general body limit (8 MiB) streams in through
+    // the same form.
+    let version = hidden(&after, "version");
+    let mut big = String::from("time,reference,uut\n");
+    for i in 0..300_000 {
+        big += &format!(
+            "2026-11-28T09:{:02}:{:02}Z,-20.0{:02},-20.0{:02}\n",
+            (i / 60) % 60,
+            i % 60,
+            i % 97,
+            i % 89
+        );
+    }
+    assert!(big.len() > 9 * 1024 * 1024, "{}", big.len());
+    let stored = browser
+        .post_multipart(
+            &form_url,
+            &[("csrf", &csrf), ("version", &version), ("file", &big)],
+        )
+        .await;
+    assert_eq!(stored.status, StatusCode::SEE_OTHER, "{}", stored.text());
+    let page = browser.get("/runs/3").await.text();
+    assert!(page.contains("Readings as taken (300008)"), "{page}");
+    // A bad reading deep in a file is named by its line, and nothing of the
+    // file is stored.
+    let version = hidden(&page, "version");
+    let bad_big = big.replacen("-20.042,-20.011\n", "-20.042,x\n", 1);
+    assert_ne!(bad_big, big);
+    let refused = browser
+        .post_multipart(
+            &form_url,
+            &[("csrf", &csrf), ("version", &version), ("file", &bad_big)],
+        )
+        .await;
+    assert_eq!(refused.status, StatusCode::OK);
+    // The first reading with both 42 and 11 is the first i with i % 97 == 42
+    // and i % 89 == 11; the header is line 1.
+    let first = (0..300_000)
+        .find(|i| i % 97 == 42 && i % 89 == 11)
+        .expect("one");
+    let message = format!(
+        "line {}, column 3: &#34;x&#34; in column `uut` is not a number",
+        first + 2
+    );
+    assert!(refused.text().contains(&message), "{}", refused.text());
+    assert!(refused.text().contains("Readings as taken (300008)"));
 }
 
 #[sqlx::test]

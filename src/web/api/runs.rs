@@ -816,7 +816,8 @@ pub struct FileAdded {
 /// Reads a logger file from a request body as it arrives: splits it into
 /// lines across chunks, parses each line with the header's layout, checks
 /// it and keeps it as columns. The body itself is never held whole.
-struct FileReader<'a> {
+#[derive(Debug)]
+pub struct FileReader<'a> {
     instrument: &'a Instrument,
     rj_method: &'a str,
     layout: Option<readings::Layout>,
@@ -826,14 +827,18 @@ struct FileReader<'a> {
     columns: runs::ReadingColumns,
     problems: Problems,
     hasher: sha2::Sha256,
-    bytes: u64,
+    /// Bytes taken so far.
+    pub bytes: u64,
 }
 
 /// Field errors collected from a file before giving up.
 const MAX_FILE_PROBLEMS: usize = 20;
 
 impl<'a> FileReader<'a> {
-    fn new(instrument: &'a Instrument, rj_method: &'a str) -> Self {
+    /// A reader for readings of `instrument` taken with the reference
+    /// junction method `rj_method`.
+    #[must_use]
+    pub fn new(instrument: &'a Instrument, rj_method: &'a str) -> Self {
         Self {
             instrument,
             rj_method,
@@ -848,7 +853,10 @@ impl<'a> FileReader<'a> {
     }
 
     /// Takes the next chunk of the body.
-    fn chunk(&mut self, chunk: &[u8]) -> Result<(), AppError> {
+    ///
+    /// # Errors
+    /// A line that cannot be read, or too many problems; 422 naming lines.
+    pub fn chunk(&mut self, chunk: &[u8]) -> Result<(), AppError> {
         sha2::Digest::update(&mut self.hasher, chunk);
         self.bytes += chunk.len() as u64;
         let mut rest = chunk;
@@ -948,7 +956,10 @@ impl<'a> FileReader<'a> {
     }
 
     /// The readings and the file's size and SHA-256, once the body ended.
-    fn finish(mut self) -> Result<(runs::ReadingColumns, u64, String), AppError> {
+    ///
+    /// # Errors
+    /// Problems found, an empty file or no readings; 422 naming lines.
+    pub fn finish(mut self) -> Result<(runs::ReadingColumns, u64, String), AppError> {
         if !self.pending.is_empty() {
             let last = std::mem::take(&mut self.pending);
             self.one_line(&last)?;
@@ -1012,25 +1023,9 @@ pub async fn add_readings_file(
         return Err(too_large(limit));
     }
     // Who may add what, checked before the body is read (and again in the
-    // write transaction below).
-    let (run, instrument) = {
-        let mut conn = state.db.acquire().await?;
-        let run = run_or_404(&mut conn, id).await?;
-        editable(&run, &caller, version)?;
-        if !runs::set_points(&mut conn, id)
-            .await?
-            .iter()
-            .any(|sp| sp.id == set_point_id)
-        {
-            return Err(
-                AppError::NotFound(format!("run {id} has no set point {set_point_id}")).into(),
-            );
-        }
-        let instrument = records::instrument_by_id(&mut conn, run.instrument_id)
-            .await?
-            .ok_or_else(|| AppError::Internal("instrument vanished".to_owned()))?;
-        (run, instrument)
-    };
+    // write transaction).
+    let (run, instrument) = file_target(&state.db, id, set_point_id).await?;
+    editable(&run, &caller, version)?;
     let mut reader = FileReader::new(&instrument, &run.rj_method);
     let mut body = std::pin::pin!(body);
     while let Some(frame) = std::future::poll_fn(|cx| body.as_mut().poll_frame(cx)).await {
@@ -1043,11 +1038,69 @@ pub async fn add_readings_file(
         }
     }
     let (columns, bytes, sha256) = reader.finish()?;
+    let added = store_file_readings(
+        &state.db,
+        &caller,
+        id,
+        set_point_id,
+        version,
+        &columns,
+        bytes,
+        sha256,
+    )
+    .await?;
+    Ok((StatusCode::CREATED, Json(added)))
+}
 
-    let mut tx = store::begin_write(&state.db).await?;
+/// The run `id` and its instrument, checking that `set_point_id` is one of
+/// its set points: what a logger file is read against.
+///
+/// # Errors
+/// 404 for an unknown run or set point; a database error.
+pub async fn file_target(
+    db: &sqlx::SqlitePool,
+    id: i64,
+    set_point_id: i64,
+) -> Result<(runs::Run, Instrument), AppError> {
+    let mut conn = db.acquire().await?;
+    let run = run_or_404(&mut conn, id).await?;
+    if !runs::set_points(&mut conn, id)
+        .await?
+        .iter()
+        .any(|sp| sp.id == set_point_id)
+    {
+        return Err(AppError::NotFound(format!(
+            "run {id} has no set point {set_point_id}"
+        )));
+    }
+    let instrument = records::instrument_by_id(&mut conn, run.instrument_id)
+        .await?
+        .ok_or_else(|| AppError::Internal("instrument vanished".to_owned()))?;
+    Ok((run, instrument))
+}
+
+/// Stores the readings read from a logger file (size `bytes`, SHA-256
+/// `sha256`) at a set point of run `id`, in one transaction with its audit
+/// event.
+///
+/// # Errors
+/// 403, 409 (stale version, run not editable), a database error.
+#[expect(clippy::too_many_arguments, reason = "one operation, named fields")]
+pub async fn store_file_readings(
+    db: &sqlx::SqlitePool,
+    caller: &Caller,
+    id: i64,
+    set_point_id: i64,
+    version: i64,
+    columns: &runs::ReadingColumns,
+    bytes: u64,
+    sha256: String,
+) -> ApiResult<FileAdded> {
+    caller.may_change(RUN_ROLES, "entering readings")?;
+    let mut tx = store::begin_write(db).await?;
     let run = run_or_404(&mut tx, id).await?;
-    editable(&run, &caller, version)?;
-    let total = runs::append_reading_columns(&mut tx, set_point_id, &columns).await?;
+    editable(&run, caller, version)?;
+    let total = runs::append_reading_columns(&mut tx, set_point_id, columns).await?;
     runs::touch(&mut tx, id, run.version).await?;
     let added = columns.len();
     let after = serde_json::json!({
@@ -1059,7 +1112,7 @@ pub async fn add_readings_file(
     });
     record(
         &mut tx,
-        &caller,
+        caller,
         "add_readings_file",
         "run",
         &id.to_string(),
@@ -1068,16 +1121,13 @@ pub async fn add_readings_file(
     )
     .await?;
     tx.commit().await?;
-    Ok((
-        StatusCode::CREATED,
-        Json(FileAdded {
-            added,
-            total,
-            version: run.version + 1,
-            bytes,
-            sha256,
-        }),
-    ))
+    Ok(FileAdded {
+        added,
+        total,
+        version: run.version + 1,
+        bytes,
+        sha256,
+    })
 }
 
 /// 413 naming the upload limit.

@@ -34,10 +34,6 @@ pub fn routes() -> Router<AppState> {
             axum::routing::post(runs::add_set_point),
         )
         .route(
-            "/runs/{id}/set-points/{set_point_id}/readings",
-            axum::routing::post(runs::add_readings),
-        )
-        .route(
             "/runs/{id}/set-points/{set_point_id}/delete",
             axum::routing::post(runs::delete_set_point),
         )

@@ -19,8 +19,8 @@ use crate::store::runs::Reading;
 use crate::store::{equipment, lab, records, runs};
 use crate::web::api::records::ApiError;
 use crate::web::api::runs::{
-    self as run_ops, RunBody, SetPointBody, add_readings_to, add_set_point_to, create_run,
-    remove_set_point, submit_run, unusable_reason,
+    self as run_ops, FileReader, RunBody, SetPointBody, add_readings_to, add_set_point_to,
+    create_run, file_target, remove_set_point, store_file_readings, submit_run, unusable_reason,
 };
 use crate::web::auth::AuthError;
 use crate::web::session::PageUser;
@@ -1140,28 +1140,107 @@ pub async fn add_set_point(
         .into_response())
 }
 
-/// Reads the readings form (multipart: grid cells, pasted text, a file).
-async fn read_form(mut multipart: Multipart) -> Result<HashMap<String, String>, PageError> {
+/// What the readings form brought: its text fields (grid cells, pasted
+/// text, CSRF token, version) and, when a file was chosen, the file read
+/// and checked as it arrived.
+struct ReadingsForm {
+    values: HashMap<String, String>,
+    file: Option<Result<FileRead, AppError>>,
+}
+
+/// A logger file as read: its readings, size in bytes and SHA-256.
+type FileRead = (crate::store::runs::ReadingColumns, u64, String);
+
+fn form_error(e: &axum::extract::multipart::MultipartError, limit: u64) -> PageError {
+    if e.status() == axum::http::StatusCode::PAYLOAD_TOO_LARGE {
+        PageError(AppError::PayloadTooLarge {
+            limit_bytes: usize::try_from(limit).unwrap_or(usize::MAX),
+        })
+    } else {
+        PageError(AppError::BadRequest(format!(
+            "the form could not be read: {e}"
+        )))
+    }
+}
+
+/// Reads the readings form (multipart). A file streams through the same
+/// reader as the API's logger upload, up to the upload limit; every other
+/// field is held to the general body limit.
+async fn read_readings_form(
+    state: &AppState,
+    id: i64,
+    set_point_id: i64,
+    mut multipart: Multipart,
+) -> Result<ReadingsForm, PageError> {
+    let (run, instrument) = file_target(&state.db, id, set_point_id).await?;
+    let text_limit = state.http.body_limit_bytes;
+    let upload_limit = state.http.upload_limit_bytes;
     let mut values = HashMap::new();
-    while let Some(field) = multipart
+    let mut file = None;
+    while let Some(mut field) = multipart
         .next_field()
         .await
-        .map_err(|e| AppError::BadRequest(format!("the form could not be read: {e}")))?
+        .map_err(|e| form_error(&e, upload_limit))?
     {
         let name = field.name().unwrap_or("").to_owned();
-        let bytes = field
-            .bytes()
+        if name == "file" {
+            let mut reader = FileReader::new(&instrument, &run.rj_method);
+            let mut failed = None;
+            while let Some(chunk) = field
+                .chunk()
+                .await
+                .map_err(|e| form_error(&e, upload_limit))?
+            {
+                if let Err(e) = reader.chunk(&chunk) {
+                    failed = Some(e);
+                    break;
+                }
+            }
+            if failed.is_some() || reader.bytes > 0 {
+                file = Some(match failed {
+                    Some(e) => Err(e),
+                    None => reader.finish(),
+                });
+            }
+            continue;
+        }
+        let mut bytes = Vec::new();
+        while let Some(chunk) = field
+            .chunk()
             .await
-            .map_err(|e| AppError::BadRequest(format!("the form could not be read: {e}")))?;
-        let text = String::from_utf8(bytes.to_vec()).map_err(|_| {
-            AppError::invalid(
-                name.clone(),
-                "the file is not text (UTF-8); export the logger data as CSV or tab-separated text",
-            )
-        })?;
+            .map_err(|e| form_error(&e, upload_limit))?
+        {
+            if bytes.len() + chunk.len() > text_limit {
+                return Err(PageError(AppError::PayloadTooLarge {
+                    limit_bytes: text_limit,
+                }));
+            }
+            bytes.extend_from_slice(&chunk);
+        }
+        let text = String::from_utf8(bytes)
+            .map_err(|_| AppError::invalid(name.clone(), "is not text (UTF-8)"))?;
         values.insert(name, text);
     }
-    Ok(values)
+    Ok(ReadingsForm { values, file })
+}
+
+/// The field errors of a logger file, all shown at the file field; other
+/// errors end the request.
+fn file_errors(e: AppError) -> Result<Vec<FieldError>, PageError> {
+    match e {
+        AppError::Invalid { errors, .. } => Ok(errors
+            .into_iter()
+            .map(|f| {
+                let message = if f.message.starts_with(&f.field) {
+                    f.message
+                } else {
+                    format!("{}: {}", f.field, f.message)
+                };
+                FieldError::new("file", message)
+            })
+            .collect()),
+        other => Err(PageError(other)),
+    }
 }
 
 /// `POST /runs/{id}/set-points/{set_point_id}/readings`.
@@ -1171,9 +1250,53 @@ pub async fn add_readings(
     Path((id, set_point_id)): Path<(i64, i64)>,
     multipart: Multipart,
 ) -> Result<Response, PageError> {
-    let values = read_form(multipart).await?;
+    let ReadingsForm { values, file } =
+        read_readings_form(&state, id, set_point_id, multipart).await?;
     user.check_csrf(values.get("csrf").map_or("", String::as_str))?;
-    let file = values.get("file").map_or("", |s| s.trim());
+    if let Some(read) = file {
+        let errors = match read {
+            Ok((columns, bytes, sha256)) => match store_file_readings(
+                &state.db,
+                &user.caller(),
+                id,
+                set_point_id,
+                version_of(&values),
+                &columns,
+                bytes,
+                sha256,
+            )
+            .await
+            {
+                Ok(_) => {
+                    return Ok(
+                        Redirect::to(&format!("/runs/{id}#set-point-{set_point_id}"))
+                            .into_response(),
+                    );
+                }
+                Err(e) => field_errors(e)?
+                    .into_iter()
+                    .map(|f| FieldError::new("file", f.message))
+                    .collect(),
+            },
+            Err(e) => file_errors(e)?,
+        };
+        let state_back = FormState {
+            set_point_id,
+            grid: vec![(String::new(), String::new(), String::new()); GRID_ROWS],
+            paste: values.get("paste").cloned().unwrap_or_default(),
+            errors: error_map(&errors),
+        };
+        return Ok(run_render(
+            &state,
+            &user,
+            id,
+            Some(state_back),
+            HashMap::new(),
+            String::new(),
+        )
+        .await?
+        .into_response());
+    }
     let paste = values.get("paste").map_or("", |s| s.trim());
     let grid: Vec<(String, String, String)> = (0..GRID_ROWS)
         .map(|i| {
@@ -1186,16 +1309,11 @@ pub async fn add_readings(
         })
         .collect();
     let mut errors: Vec<FieldError> = Vec::new();
-    let readings: Vec<Reading> = if !file.is_empty() || !paste.is_empty() {
-        let (source, field) = if file.is_empty() {
-            (paste, "paste")
-        } else {
-            (file, "file")
-        };
-        match text_readings::parse(source) {
+    let readings: Vec<Reading> = if !paste.is_empty() {
+        match text_readings::parse(paste) {
             Ok(r) => r,
             Err(e) => {
-                errors.push(FieldError::new(field, e.to_string()));
+                errors.push(FieldError::new("paste", e.to_string()));
                 Vec::new()
             }
         }
@@ -1266,11 +1384,10 @@ pub async fn add_readings(
                         .strip_prefix("readings[")
                         .and_then(|rest| rest.split(']').next())
                         .and_then(|n| n.parse::<usize>().ok());
-                    let target = match (row, file.is_empty(), paste.is_empty()) {
-                        (_, false, _) => "file".to_owned(),
-                        (_, true, false) => "paste".to_owned(),
-                        (Some(n), true, true) => format!("row_{n}"),
-                        (None, true, true) => "row_0".to_owned(),
+                    let target = match (row, paste.is_empty()) {
+                        (_, false) => "paste".to_owned(),
+                        (Some(n), true) => format!("row_{n}"),
+                        (None, true) => "row_0".to_owned(),
                     };
                     let message = match row {
                         Some(n) => format!("reading {}: {}", n + 1, f.message),
