@@ -88,6 +88,12 @@ async fn every_api_route_answers_each_kind_of_caller_as_its_role_allows(pool: Sq
         ("GET", "/api/v1/runs".into(), None, READERS),
         ("GET", "/api/v1/runs/1".into(), None, READERS),
         ("GET", "/api/v1/runs/1/results".into(), None, READERS),
+        (
+            "GET",
+            "/api/v1/runs/1/set-points/1/readings?limit=2".into(),
+            None,
+            READERS,
+        ),
         ("GET", "/api/v1/review".into(), None, READERS),
         ("GET", "/api/v1/certificates".into(), None, READERS),
         (

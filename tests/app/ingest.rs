@@ -207,6 +207,57 @@ async fn a_logger_file_is_stored_whole_with_its_fingerprint(pool: SqlitePool) {
     );
     assert_eq!(results["set_points"][0]["n"], 3004, "{results}");
 
+    // The readings page by page, across rows and blocks, and the run
+    // without its readings.
+    let page = |query: &'static str| {
+        let app = lab.app.clone();
+        let reader = lab.reader.clone();
+        async move {
+            call(
+                &app,
+                "GET",
+                &format!("/api/v1/runs/{id}/set-points/{sp}/readings{query}"),
+                Some(&reader),
+                None,
+            )
+            .await
+        }
+    };
+    let first = ok(&page("?limit=1000").await, StatusCode::OK);
+    assert_eq!(first["total"], 3004);
+    assert_eq!(first["readings"].as_array().expect("page").len(), 1000);
+    assert_eq!(first["readings"][999]["position"], 1000);
+    assert_eq!(first["next_after"], 1000);
+    let last = ok(&page("?after=2500&limit=1000").await, StatusCode::OK);
+    let last_readings = last["readings"].as_array().expect("page");
+    assert_eq!(last_readings.len(), 504);
+    assert_eq!(last_readings[0]["position"], 2501);
+    assert_eq!(last_readings[500]["taken_at"], "typed");
+    assert_eq!(last_readings[503]["uut_signal"], 138.5312);
+    assert!(last.get("next_after").is_none(), "{last}");
+    for (query, field) in [
+        ("?limit=0", "limit"),
+        ("?limit=10001", "limit"),
+        ("?after=-1", "after"),
+    ] {
+        let bad = page(query).await;
+        assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY, "{query}");
+        assert_eq!(bad.json()["errors"][0]["field"], field, "{query}");
+    }
+    let lean = ok(
+        &call(
+            &lab.app,
+            "GET",
+            &format!("/api/v1/runs/{id}?readings=false"),
+            Some(&lab.reader),
+            None,
+        )
+        .await,
+        StatusCode::OK,
+    );
+    assert_eq!(lean["set_points"][0]["reading_count"], 3004);
+    assert!(lean["set_points"][0].get("readings").is_none(), "{lean}");
+
     // Removing the set point removes its stored blocks too.
     let removed = call(
         &lab.app,

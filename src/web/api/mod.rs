@@ -103,7 +103,7 @@ pub fn routes() -> Router<AppState> {
         )
         .route(
             "/api/v1/runs/{id}/set-points/{set_point_id}/readings",
-            post(runs::add_readings),
+            post(runs::add_readings).get(runs::readings_page),
         )
         .route("/api/v1/runs/{id}/submit", post(runs::submit))
         .route("/api/v1/runs/{id}/switch", put(switches::put_settings))

@@ -386,7 +386,14 @@ const RECORD_ROUTES: &[(&str, &str, &str, bool, &str)] = &[
     (
         "/api/v1/runs/{id}",
         "get",
-        "A run with its set points and raw readings",
+        "A run with its set points, each with reading_count and its raw readings; ?readings=false leaves the readings out",
+        false,
+        "200",
+    ),
+    (
+        "/api/v1/runs/{id}/set-points/{set_point_id}/readings",
+        "get",
+        "A set point's raw readings page by page: ?after=position (default 0) and ?limit= (1 to 10 000, default 10 000); answers {set_point_id, total, readings, next_after}",
         false,
         "200",
     ),

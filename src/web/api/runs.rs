@@ -409,8 +409,102 @@ pub struct SetPointDetail {
     /// The set point.
     #[serde(flatten)]
     pub set_point: SetPoint,
-    /// Its raw readings.
+    /// How many readings it holds.
+    pub reading_count: i64,
+    /// Its raw readings (absent with `?readings=false`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub readings: Option<Vec<Reading>>,
+}
+
+/// Query of `GET /api/v1/runs/{id}`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DetailQuery {
+    /// Include every raw reading (default true); `false` gives only the
+    /// counts, for runs with logger files of many readings (read those
+    /// page by page from `.../set-points/{sp}/readings`).
+    #[serde(default = "yes")]
+    pub readings: bool,
+}
+
+fn yes() -> bool {
+    true
+}
+
+/// Most readings in one page of `GET .../set-points/{sp}/readings`.
+pub const MAX_READINGS_PAGE: i64 = 10_000;
+
+/// Query of a page of readings.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ReadingsPageQuery {
+    /// Readings after this position (default 0: from the first).
+    #[serde(default)]
+    pub after: i64,
+    /// How many (default and most: 10 000).
+    #[serde(default = "page_limit")]
+    pub limit: i64,
+}
+
+fn page_limit() -> i64 {
+    MAX_READINGS_PAGE
+}
+
+/// A page of a set point's readings.
+#[derive(Debug, Serialize)]
+pub struct ReadingsPage {
+    /// The set point.
+    pub set_point_id: i64,
+    /// How many readings it holds in all.
+    pub total: i64,
+    /// The readings of this page, by position.
     pub readings: Vec<Reading>,
+    /// Ask again with `?after=` this for the next page; absent after the last.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub next_after: Option<i64>,
+}
+
+/// `GET /api/v1/runs/{id}/set-points/{set_point_id}/readings?after=&limit=`:
+/// a set point's raw readings page by page, in order of position.
+pub async fn readings_page(
+    State(state): State<AppState>,
+    _caller: Caller,
+    Path((id, set_point_id)): Path<(i64, i64)>,
+    crate::web::extract::ApiQuery(q): crate::web::extract::ApiQuery<ReadingsPageQuery>,
+) -> ApiResult<Json<ReadingsPage>> {
+    let mut p = Problems::default();
+    if q.after < 0 {
+        p.add(
+            "after",
+            format!("{} is negative; give a position, 0 or more", q.after),
+        );
+    }
+    if !(1..=MAX_READINGS_PAGE).contains(&q.limit) {
+        p.add(
+            "limit",
+            format!("{} is outside 1 to {MAX_READINGS_PAGE}", q.limit),
+        );
+    }
+    p.finish()?;
+    let mut conn = state.db.acquire().await?;
+    run_or_404(&mut conn, id).await?;
+    if !runs::set_points(&mut conn, id)
+        .await?
+        .iter()
+        .any(|sp| sp.id == set_point_id)
+    {
+        return Err(AppError::NotFound(format!("run {id} has no set point {set_point_id}")).into());
+    }
+    let total = runs::reading_count(&mut conn, set_point_id).await?;
+    let last = runs::last_position(&mut conn, set_point_id).await?;
+    let to = q.after.saturating_add(q.limit);
+    let readings = runs::readings_in(&mut conn, set_point_id, q.after + 1, to).await?;
+    Ok(Json(ReadingsPage {
+        set_point_id,
+        total,
+        readings,
+        next_after: (to < last).then_some(to),
+    }))
 }
 
 /// A run with its set points and readings.
@@ -434,14 +528,21 @@ pub async fn get(
     State(state): State<AppState>,
     _caller: Caller,
     Path(id): Path<i64>,
+    crate::web::extract::ApiQuery(q): crate::web::extract::ApiQuery<DetailQuery>,
 ) -> ApiResult<Json<RunDetail>> {
     let mut conn = state.db.acquire().await?;
     let run = run_or_404(&mut conn, id).await?;
     let mut set_points = Vec::new();
     for sp in runs::set_points(&mut conn, id).await? {
-        let readings = runs::readings(&mut conn, sp.id).await?;
+        let reading_count = runs::reading_count(&mut conn, sp.id).await?;
+        let readings = if q.readings {
+            Some(runs::readings(&mut conn, sp.id).await?)
+        } else {
+            None
+        };
         set_points.push(SetPointDetail {
             set_point: sp,
+            reading_count,
             readings,
         });
     }
