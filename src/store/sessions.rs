@@ -11,6 +11,8 @@ pub struct Session {
     pub user: User,
     /// The token every form of this session must carry.
     pub csrf_token: String,
+    /// When it ends (UTC, the `*_at` text form).
+    pub expires_at: String,
 }
 
 /// Stores a new session.
@@ -47,7 +49,7 @@ pub async fn find(conn: &mut SqliteConnection, id_hash: &str) -> sqlx::Result<Op
     let now = super::now_timestamp();
     let row = sqlx::query!(
         r#"SELECT u.id AS "id!: i64", u.username, u.display_name, u.role, u.password_hash,
-                  u.active AS "active: bool", s.csrf_token
+                  u.active AS "active: bool", s.csrf_token, s.expires_at
            FROM web_session s JOIN app_user u ON u.id = s.user_id
            WHERE s.id_hash = ? AND s.expires_at > ? AND u.active"#,
         id_hash,
@@ -67,6 +69,7 @@ pub async fn find(conn: &mut SqliteConnection, id_hash: &str) -> sqlx::Result<Op
             active: r.active,
         },
         csrf_token: r.csrf_token,
+        expires_at: r.expires_at,
     }))
 }
 

@@ -196,7 +196,7 @@ impl<K: Eq + Hash, V: Clone> Fresh<K, V> {
     }
 }
 
-/// API tokens' owners kept (entries).
+/// API tokens' owners and browser sessions kept (entries, each).
 pub const TOKEN_ENTRIES: usize = 4_096;
 /// Current-certificate and certificate-number look-ups kept (entries).
 pub const HEADER_ENTRIES: usize = 50_000;
@@ -210,6 +210,9 @@ pub struct Lookups {
     pub current: Fresh<String, crate::store::lookups::CertificateHeader>,
     /// (certificate number, revision or -1 for the latest) -> certificate.
     pub by_number: Fresh<(String, i64), crate::store::lookups::CertificateHeader>,
+    /// Session cookie hash -> the live session (its end is checked on every
+    /// use; signing out, ending sessions and deactivating are changes).
+    pub sessions: Fresh<String, crate::store::sessions::Session>,
 }
 
 impl Default for Lookups {
@@ -218,6 +221,7 @@ impl Default for Lookups {
             tokens: Fresh::new(TOKEN_ENTRIES),
             current: Fresh::new(HEADER_ENTRIES),
             by_number: Fresh::new(HEADER_ENTRIES),
+            sessions: Fresh::new(TOKEN_ENTRIES),
         }
     }
 }

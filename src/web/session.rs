@@ -119,8 +119,25 @@ pub async fn session_of(
         return Ok(None);
     };
     let hash = token_hash(secret);
-    let mut conn = state.db.acquire().await?;
-    Ok(sessions::find(&mut conn, &hash).await?.map(|s| PageUser {
+    // Live sessions are kept until the next database change; the end time
+    // is checked on every use, as the query does.
+    let changes = state.changes.changes();
+    let session = match state.lookups.sessions.get(&hash, changes) {
+        Some(s) if s.expires_at > crate::store::now_timestamp() => Some(s),
+        Some(_) => None,
+        None => {
+            let mut conn = state.db.acquire().await?;
+            let found = sessions::find(&mut conn, &hash).await?;
+            if let Some(s) = &found {
+                state
+                    .lookups
+                    .sessions
+                    .insert(hash.clone(), s.clone(), changes);
+            }
+            found
+        }
+    };
+    Ok(session.map(|s| PageUser {
         user: s.user,
         csrf: s.csrf_token,
         session_hash: hash,

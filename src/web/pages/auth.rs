@@ -200,10 +200,14 @@ pub async fn sign_out(
     Form(form): Form<HashMap<String, String>>,
 ) -> Result<Response, PageError> {
     user.check_csrf(form.get("csrf").map_or("", String::as_str))?;
-    let mut conn = state.db.acquire().await.map_err(AppError::from)?;
-    sessions::delete(&mut conn, &user.session_hash)
+    // A write transaction, so that the session cache drops it at once.
+    let mut tx = crate::store::begin_write(&state.db)
         .await
         .map_err(AppError::from)?;
+    sessions::delete(&mut tx, &user.session_hash)
+        .await
+        .map_err(AppError::from)?;
+    tx.commit().await.map_err(AppError::from)?;
     let mut response = Redirect::to("/sign-in").into_response();
     let value = set_cookie(SESSION_COOKIE, "", 0, over_tls(&headers));
     if let Ok(v) = HeaderValue::from_str(&value) {
