@@ -98,7 +98,7 @@ pub fn router(state: AppState) -> Router {
         // the extractor limit so that extractors produce the clearer error.
         .route_layer(RequestBodyLimitLayer::new(http.body_limit_bytes + 1024))
         // Logger files stream past that cap with their own limit.
-        .merge(api::upload_routes(http.upload_limit_bytes))
+        .merge(upload_routes(http.upload_limit_bytes))
         // Count and time every matched route. A route layer sees the
         // matched path template (e.g. `/api/v1/instruments/{serial}`), which
         // keeps the label set small.
@@ -129,6 +129,25 @@ pub fn router(state: AppState) -> Router {
             "same-origin",
         ))
         .layer(TraceLayer::new_for_http())
+}
+
+/// Routes that stream logger files: kept apart so that the general body
+/// limit does not apply to them; they take the upload limit instead.
+fn upload_routes(limit_bytes: u64) -> Router<AppState> {
+    Router::new()
+        .route(
+            "/api/v1/runs/{id}/set-points/{set_point_id}/readings/file",
+            axum::routing::post(api::runs::add_readings_file),
+        )
+        // The run page's readings form: its file field streams through
+        // the same reader; its other fields keep the general limit.
+        .route(
+            "/runs/{id}/set-points/{set_point_id}/readings",
+            axum::routing::post(pages::runs::add_readings),
+        )
+        .layer(DefaultBodyLimit::max(
+            usize::try_from(limit_bytes).unwrap_or(usize::MAX),
+        ))
 }
 
 fn security_header(name: HeaderName, value: &'static str) -> SetResponseHeaderLayer<HeaderValue> {

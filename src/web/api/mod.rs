@@ -18,25 +18,6 @@ use axum::routing::{get, post, put};
 
 use super::AppState;
 
-/// Routes that stream large bodies: kept apart so that the service's
-/// general body limit does not apply to them (they enforce their own).
-pub fn upload_routes(limit_bytes: u64) -> Router<AppState> {
-    Router::new()
-        .route(
-            "/api/v1/runs/{id}/set-points/{set_point_id}/readings/file",
-            post(runs::add_readings_file),
-        )
-        // The run page's readings form, whose file field streams through
-        // the same reader; its other fields keep the general limit.
-        .route(
-            "/runs/{id}/set-points/{set_point_id}/readings",
-            post(super::pages::runs::add_readings),
-        )
-        .layer(axum::extract::DefaultBodyLimit::max(
-            usize::try_from(limit_bytes).unwrap_or(usize::MAX),
-        ))
-}
-
 /// Routes of the JSON API.
 pub fn routes() -> Router<AppState> {
     Router::new()
